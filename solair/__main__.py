@@ -1,0 +1,5 @@
+"""Allow ``python -m solair``."""
+
+from solair.cli import main
+
+main()
