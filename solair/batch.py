@@ -1,0 +1,652 @@
+"""Batch runner of a portfolio: one task per weather file, on dask or in-process.
+
+Each task receives a weather file's *path* and the plain settings of the run (no
+data frames travel), reads the file, computes every surface x finish in one
+vectorised call (:func:`solair.compare.compare`), and writes, inside the task:
+
+* ``climates/<label>.nc``: the hourly results (time x surface x finish), NetCDF
+  through h5netcdf, written with dask's synchronous scheduler (inside a
+  distributed worker xarray would otherwise take a distributed lock per file);
+* ``climates/<label>.metrics.csv``: the small table of metrics per surface x finish.
+
+Both are written atomically: to a temporary name in the same folder, flushed to
+disk, then renamed over the final name with :func:`os.replace`, so a killed run
+never leaves a truncated result under a final name. The task returns only a
+small status dict. The client alone appends one JSON line per task to
+``manifest.jsonl`` (inputs' sha256, configuration hash, versions, status, error,
+timing) as tasks finish (:func:`distributed.as_completed`), and writes
+``summary.csv`` (and ``summary.parquet`` when pyarrow is importable) from the
+per-climate metric files at the end. Nothing is gathered whole in the client, so
+its memory stays flat in the number of climates.
+
+Resume: a climate whose latest manifest record is done with the same weather
+file hash and configuration hash, and whose outputs exist, is skipped unless
+``force=True``.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import json
+import os
+import platform
+import socket
+import time
+import uuid
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, TextIO
+
+from solair.errors import ConfigurationError, SolairError
+from solair.portfolio import ResolvedPortfolio
+
+__all__ = [
+    "CAUTION",
+    "BatchResult",
+    "atomic_write",
+    "file_sha256",
+    "read_manifest",
+    "run_climate",
+    "run_portfolio",
+    "versions",
+]
+
+CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
+MANIFEST = "manifest.jsonl"
+CLIMATES_DIR = "climates"
+SUMMARY = "summary"
+_TMP_MARK = ".tmp-"
+#: packages whose versions must agree between the client and every worker
+SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf")
+
+
+# --------------------------------------------------------------------------- small helpers
+
+def versions() -> dict[str, str]:
+    """Versions of Python and of the packages that shape the results."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    out = {"python": platform.python_version()}
+    for pkg in (*SKEW_PACKAGES, "dask", "distributed"):
+        try:
+            out[pkg] = version(pkg)
+        except PackageNotFoundError:
+            out[pkg] = "not installed"
+    return out
+
+
+def file_sha256(path: str | os.PathLike, chunk: int = 1 << 20) -> str:
+    """sha256 (hex) of a file's content."""
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        while block := fh.read(chunk):
+            h.update(block)
+    return h.hexdigest()
+
+
+def _tmp_name(path: Path) -> Path:
+    return path.with_name(f".{path.name}{_TMP_MARK}{os.getpid()}-{uuid.uuid4().hex[:8]}")
+
+
+def atomic_write(path: str | os.PathLike, write: Callable[[Path], Any]) -> Path:
+    """Write a file atomically: ``write(tmp)`` to a temporary name beside it, fsync, rename.
+
+    The temporary file sits in the same folder (so :func:`os.replace` is an atomic
+    rename on POSIX) and is removed if ``write`` fails.
+    """
+    path = Path(path)
+    tmp = _tmp_name(path)
+    try:
+        write(tmp)
+        fd = os.open(tmp, os.O_RDONLY)
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+        os.replace(tmp, path)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    with contextlib.suppress(OSError):  # make the rename itself durable
+        dfd = os.open(path.parent, os.O_RDONLY)
+        try:
+            os.fsync(dfd)
+        finally:
+            os.close(dfd)
+    return path
+
+
+def _one_line(exc: BaseException) -> str:
+    text = " ".join(str(exc).split())
+    if isinstance(exc, SolairError):
+        return text
+    return f"{type(exc).__name__}: {text}" if text else type(exc).__name__
+
+
+def _outputs(out_dir: Path, label: str) -> tuple[Path, Path]:
+    d = out_dir / CLIMATES_DIR
+    return d / f"{label}.nc", d / f"{label}.metrics.csv"
+
+
+# --------------------------------------------------------------------------- the task
+
+def run_climate(task: dict[str, Any]) -> dict[str, Any]:
+    """Compute one climate and write its outputs; never raises for a bad input.
+
+    Parameters
+    ----------
+    task : dict
+        ``label``, ``path`` (the weather file), ``out_dir``, ``settings`` (see
+        :class:`solair.portfolio.ResolvedPortfolio`), ``config_hash``.
+
+    Returns
+    -------
+    dict
+        A small status record: ``label``, ``path``, ``status`` ("done" or
+        "failed"), ``error`` (one line, or None), ``input_sha256``, ``seconds``,
+        ``worker``, ``n_metric_rows``.
+    """
+    t0 = time.perf_counter()
+    record: dict[str, Any] = {
+        "label": task["label"], "path": task["path"], "status": "failed", "error": None,
+        "input_sha256": None, "worker": f"{socket.gethostname()}:{os.getpid()}",
+        "n_metric_rows": 0,
+    }
+    try:
+        record["input_sha256"] = file_sha256(task["path"])
+    except OSError as exc:
+        record["error"] = f"{task['path']}: cannot read the weather file ({exc.strerror})"
+        record["seconds"] = round(time.perf_counter() - t0, 4)
+        return record
+    try:
+        ds, metrics = compute_climate(task["path"], task["settings"])
+        ds.attrs.update({
+            "climate_label": task["label"],
+            "weather_file_sha256": record["input_sha256"],
+            "config_sha256": task["config_hash"],
+            "portfolio": task.get("portfolio", ""),
+            "caution": CAUTION,
+        })
+        metrics = metrics.copy()
+        metrics.insert(0, "climate", task["label"])
+        nc_path, metrics_path = _outputs(Path(task["out_dir"]), task["label"])
+        _write_netcdf(ds, nc_path)
+        atomic_write(metrics_path, lambda tmp: metrics.to_csv(tmp, index=False))
+        record["n_metric_rows"] = int(len(metrics))
+        record["status"] = "done"
+    except MemoryError:
+        record["error"] = "MemoryError: the worker ran out of memory on this climate"
+    except Exception as exc:  # failure isolation: one bad climate never stops the others
+        record["error"] = _one_line(exc)
+    record["seconds"] = round(time.perf_counter() - t0, 4)
+    return record
+
+
+def _write_netcdf(ds, path: Path) -> None:
+    import dask
+
+    def write(tmp: Path) -> None:
+        # the synchronous scheduler keeps xarray from taking a distributed lock per file
+        with dask.config.set(scheduler="synchronous"):
+            ds.to_netcdf(tmp, engine="h5netcdf")
+
+    atomic_write(path, write)
+
+
+def compute_climate(path: str, settings: dict[str, Any]):
+    """Hourly results (time x surface x finish) and the metrics table of one weather file.
+
+    Calls :func:`solair.compare.compare` with the portfolio's surfaces, finishes,
+    construction and model choices; keeps only the metric columns asked for.
+    """
+    import solair
+    from solair.compare import compare
+    from solair.finishes import Finish
+
+    weather = solair.read_weather(path)
+    surfaces = [solair.Surface(name=s["name"], surface_tilt=s["surface_tilt"],
+                               surface_azimuth=s["surface_azimuth"])
+                for s in settings["surfaces"]]
+    finishes = [Finish(name=f["name"], absorptance=f["absorptance"], emissivity=f["emissivity"])
+                for f in settings["finishes"]]
+    models = {k: v for k, v in settings["models"].items() if v is not None}
+    construction = settings.get("construction")
+    if construction is not None:
+        from solair.constructions import CONSTRUCTIONS
+
+        construction = CONSTRUCTIONS[construction["name"]]
+    ds, metrics = compare(weather, surfaces, finishes, construction=construction, **models)
+    keep = settings.get("metrics", {}).get("keep") or []
+    if keep:
+        missing = [k for k in keep if k not in metrics.columns]
+        if missing:
+            raise ConfigurationError(
+                f"metrics.keep = {keep!r}: {missing} are not metrics; allowed: "
+                f"{sorted(c for c in metrics.columns if c not in ('surface', 'finish'))}")
+        metrics = metrics[[c for c in ("surface", "finish") if c in metrics.columns] + keep]
+    return ds, metrics
+
+
+# --------------------------------------------------------------------------- manifest
+
+def read_manifest(path: str | os.PathLike) -> dict[str, dict[str, Any]]:
+    """The latest task record per climate label; a torn last line (killed run) is ignored."""
+    latest: dict[str, dict[str, Any]] = {}
+    try:
+        fh = open(path, encoding="utf-8")
+    except FileNotFoundError:
+        return latest
+    with fh:
+        for line in fh:
+            try:
+                rec = json.loads(line)
+            except json.JSONDecodeError:
+                continue
+            if isinstance(rec, dict) and rec.get("event") == "task" and "label" in rec:
+                latest[rec["label"]] = rec
+    return latest
+
+
+class _Manifest:
+    """Append-only JSON lines, one per event, flushed and fsynced as written (client only)."""
+
+    def __init__(self, path: Path):
+        self.path = path
+        self._fh: TextIO = open(path, "a", encoding="utf-8")
+        # a killed run can leave a torn last line: start on a fresh line
+        if self._fh.tell() > 0:
+            with open(path, "rb") as fh:
+                fh.seek(-1, os.SEEK_END)
+                if fh.read(1) != b"\n":
+                    self._fh.write("\n")
+
+    def write(self, record: dict[str, Any]) -> None:
+        self._fh.write(json.dumps(record, sort_keys=True, default=str) + "\n")
+        self._fh.flush()
+        os.fsync(self._fh.fileno())
+
+    def close(self) -> None:
+        self._fh.close()
+
+
+# --------------------------------------------------------------------------- progress
+
+class _Progress:
+    """A progress bar with ETA on a terminal; one log line per finished task otherwise."""
+
+    def __init__(self, total: int, stream: TextIO | None, tty: bool | None = None):
+        self.total, self.stream = total, stream
+        self.tty = bool(tty if tty is not None else (stream is not None and stream.isatty()))
+        self.count = {"done": 0, "skipped": 0, "failed": 0}
+        self.t0 = time.monotonic()
+        self.n_run = 0
+
+    def _finished(self) -> int:
+        return sum(self.count.values())
+
+    def skip(self, n: int) -> None:
+        self.count["skipped"] += n
+        if self.stream is not None and n and not self.tty:
+            print(f"solair batch: {n} climate(s) unchanged since the last run, skipped",
+                  file=self.stream, flush=True)
+        self._draw()
+
+    def update(self, rec: dict[str, Any]) -> None:
+        self.count[rec["status"]] += 1
+        self.n_run += 1
+        if self.stream is None:
+            return
+        if self.tty:
+            self._draw()
+            if rec["status"] == "failed":
+                self.stream.write("\r\x1b[K" + f"failed: {rec['label']}: {rec['error']}\n")
+                self._draw()
+        else:
+            n = self._finished()
+            what = f"{rec['status']} {rec['label']} ({rec.get('seconds', 0):.1f} s)"
+            if rec["status"] == "failed":
+                what += f": {rec['error']}"
+            print(f"solair batch: [{n}/{self.total}] {what}", file=self.stream, flush=True)
+
+    def _draw(self) -> None:
+        if self.stream is None or not self.tty:
+            return
+        n, width = self._finished(), 30
+        frac = n / self.total if self.total else 1.0
+        bar = "#" * int(width * frac) + "." * (width - int(width * frac))
+        elapsed = time.monotonic() - self.t0
+        left = self.total - n
+        eta = "--:--" if self.n_run == 0 else _hms(elapsed / self.n_run * left)
+        c = self.count
+        self.stream.write(f"\r[{bar}] {n}/{self.total} done {c['done']} skipped {c['skipped']} "
+                          f"failed {c['failed']} elapsed {_hms(elapsed)} ETA {eta}\x1b[K")
+        self.stream.flush()
+
+    def close(self) -> None:
+        if self.stream is not None and self.tty:
+            self._draw()
+            self.stream.write("\n")
+            self.stream.flush()
+
+
+def _hms(seconds: float) -> str:
+    s = int(round(seconds))
+    return f"{s // 3600:d}:{s % 3600 // 60:02d}:{s % 60:02d}"
+
+
+# --------------------------------------------------------------------------- the run
+
+@dataclass
+class BatchResult:
+    """What a batch run did. ``exit_code`` is 1 when any climate failed, else 0."""
+
+    output_dir: Path
+    done: list[str] = field(default_factory=list)
+    skipped: list[str] = field(default_factory=list)
+    failed: list[dict[str, Any]] = field(default_factory=list)
+    summary_csv: Path | None = None
+    summary_parquet: Path | None = None
+    manifest: Path | None = None
+    seconds: float = 0.0
+
+    @property
+    def exit_code(self) -> int:
+        return 1 if self.failed else 0
+
+    def line(self) -> str:
+        """The closing one-line count."""
+        return (f"{len(self.done)} done, {len(self.skipped)} skipped, {len(self.failed)} failed "
+                f"in {self.seconds:.1f} s")
+
+
+def run_portfolio(
+    portfolio: ResolvedPortfolio,
+    *,
+    workers: int | None = None,
+    scheduler: str | None = None,
+    scheduler_file: str | None = None,
+    force: bool = False,
+    memory_limit: str | float | None = "auto",
+    progress: TextIO | None = None,
+    tty: bool | None = None,
+    _task: Callable[[dict[str, Any]], dict[str, Any]] | None = None,
+) -> BatchResult:
+    """Run every climate of a resolved portfolio; stream results to disk as tasks finish.
+
+    Parameters
+    ----------
+    portfolio : ResolvedPortfolio
+        From :meth:`solair.portfolio.Portfolio.resolve`.
+    workers : int, optional
+        ``0`` runs serially in this process; ``N`` starts a local dask cluster of
+        N single-threaded worker processes; None (default) takes one worker per core.
+    scheduler, scheduler_file : str, optional
+        Connect to an existing dask.distributed scheduler instead (address, or
+        scheduler file); the environment variable ``DASK_SCHEDULER_ADDRESS`` is
+        used when neither is given and ``workers`` is None.
+    force : bool
+        Recompute every climate even when its inputs and settings are unchanged.
+    memory_limit : str or float
+        Memory limit per local worker (dask syntax, e.g. "4GiB"; "auto" shares
+        the machine's memory among the workers).
+    progress : text stream, optional
+        Where to report progress (a bar with ETA on a terminal, one line per task
+        otherwise); None keeps quiet.
+
+    Returns
+    -------
+    BatchResult
+
+    Raises
+    ------
+    ConfigurationError
+        Conflicting options, a scheduler that cannot be reached, or versions that
+        differ between the client and the workers.
+    """
+    t0 = time.monotonic()
+    if scheduler and scheduler_file:
+        raise ConfigurationError("give either --scheduler or --scheduler-file, not both")
+    if workers is not None and workers < 0:
+        raise ConfigurationError(f"--workers = {workers}: must be 0 (serial) or a positive count")
+    if workers is not None and (scheduler or scheduler_file):
+        raise ConfigurationError(
+            "--workers sets up a local cluster; it cannot be combined with --scheduler or "
+            "--scheduler-file (the cluster decides its own workers)")
+    if workers is None and not (scheduler or scheduler_file):
+        scheduler = os.environ.get("DASK_SCHEDULER_ADDRESS") or None
+
+    out_dir = Path(portfolio.output_dir)
+    try:
+        (out_dir / CLIMATES_DIR).mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ConfigurationError(f"output = {str(out_dir)!r}: cannot create the folder "
+                                 f"({exc.strerror})") from None
+    _remove_stale_temporaries(out_dir)
+    cfg_hash = portfolio.config_hash
+    vers = versions()
+    result = BatchResult(output_dir=out_dir, manifest=out_dir / MANIFEST)
+    previous = read_manifest(out_dir / MANIFEST)
+
+    tasks: list[dict[str, Any]] = []
+    skipped: list[dict[str, Any]] = []
+    for clim in portfolio.climates:
+        try:
+            sha = file_sha256(clim.path)
+        except OSError:
+            sha = None
+        task = {"label": clim.label, "path": clim.path, "out_dir": str(out_dir),
+                "settings": portfolio.settings, "config_hash": cfg_hash,
+                "portfolio": portfolio.name, "client_sha256": sha}
+        prev = previous.get(clim.label)
+        if not force and sha is not None and _is_current(prev, sha, cfg_hash, out_dir):
+            skipped.append({**prev, "status": "skipped", "seconds": 0.0, "started": None,
+                            "finished": None})
+        else:
+            tasks.append(task)
+
+    manifest = _Manifest(out_dir / MANIFEST)
+    bar = _Progress(len(portfolio.climates), progress, tty)
+    try:
+        manifest.write({"event": "run", "portfolio": portfolio.name, "source": portfolio.source,
+                        "config_sha256": cfg_hash, "settings": portfolio.settings,
+                        "versions": vers, "n_climates": len(portfolio.climates),
+                        "n_to_run": len(tasks), "force": force, "started": _now()})
+        for rec in skipped:
+            result.skipped.append(rec["label"])
+            manifest.write({**_task_record(rec, cfg_hash, vers), "status": "skipped",
+                            "skipped_because": "weather file and settings unchanged"})
+        bar.skip(len(skipped))
+
+        def finish(rec: dict[str, Any]) -> None:
+            if rec["status"] == "done":
+                result.done.append(rec["label"])
+            else:
+                result.failed.append(rec)
+                for p in _outputs(out_dir, rec["label"]):  # never keep stale results
+                    with contextlib.suppress(OSError):
+                        p.unlink()
+            manifest.write(_task_record(rec, cfg_hash, vers))
+            bar.update(rec)
+
+        if tasks:
+            if workers == 0:
+                for task in tasks:
+                    finish(_started(_task or run_climate, task))
+            else:
+                _run_on_dask(tasks, finish, workers=workers, scheduler=scheduler,
+                             scheduler_file=scheduler_file, memory_limit=memory_limit,
+                             client_versions=vers, task_fn=_task or run_climate)
+    finally:
+        bar.close()
+        manifest.close()
+
+    ok = [c.label for c in portfolio.climates if c.label in set(result.done) | set(result.skipped)]
+    result.summary_csv, result.summary_parquet = _write_summary(out_dir, ok)
+    result.seconds = time.monotonic() - t0
+    return result
+
+
+def _now() -> str:
+    return time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())
+
+
+def _started(fn: Callable[[dict], dict], task: dict[str, Any]) -> dict[str, Any]:
+    started = _now()
+    rec = fn(task)
+    rec["started"] = started
+    return rec
+
+
+def _task_record(rec: dict[str, Any], cfg_hash: str, vers: dict[str, str]) -> dict[str, Any]:
+    return {
+        "event": "task", "label": rec["label"],
+        "weather_file": rec.get("path") or rec.get("weather_file"),
+        "input_sha256": rec.get("input_sha256"), "config_sha256": cfg_hash,
+        "status": rec["status"], "error": rec.get("error"), "seconds": rec.get("seconds"),
+        "worker": rec.get("worker"), "started": rec.get("started"),
+        "finished": rec.get("finished") or _now(), "versions": rec.get("versions") or vers,
+        "n_metric_rows": rec.get("n_metric_rows"),
+    }
+
+
+def _is_current(prev: dict[str, Any] | None, sha: str, cfg_hash: str, out_dir: Path) -> bool:
+    if not prev or prev.get("status") not in ("done", "skipped"):
+        return False
+    if prev.get("input_sha256") != sha or prev.get("config_sha256") != cfg_hash:
+        return False
+    return all(p.is_file() for p in _outputs(out_dir, prev["label"]))
+
+
+def _remove_stale_temporaries(out_dir: Path) -> None:
+    """Remove temporary files a killed run left behind (they never carry a final name)."""
+    for folder in (out_dir, out_dir / CLIMATES_DIR):
+        for p in folder.glob(f".*{_TMP_MARK}*"):
+            with contextlib.suppress(OSError):
+                p.unlink()
+
+
+def _write_summary(out_dir: Path, labels: Iterable[str]) -> tuple[Path | None, Path | None]:
+    """Concatenate the per-climate metric files into summary.csv (+ .parquet), atomically."""
+    import pandas as pd
+
+    frames = []
+    for label in labels:
+        frames.append(pd.read_csv(_outputs(out_dir, label)[1]))
+    if not frames:
+        return None, None
+    table = pd.concat(frames, ignore_index=True)
+    csv_path = atomic_write(out_dir / f"{SUMMARY}.csv", lambda tmp: table.to_csv(tmp, index=False))
+    parquet_path = None
+    try:
+        import pyarrow  # noqa: F401
+    except ImportError:
+        pass
+    else:
+        target = out_dir / f"{SUMMARY}.parquet"
+        parquet_path = atomic_write(target, lambda tmp: table.to_parquet(tmp, index=False))
+    return csv_path, parquet_path
+
+
+# --------------------------------------------------------------------------- dask
+
+def _worker_versions() -> dict[str, str]:
+    return versions()
+
+
+def check_version_skew(client, client_versions: dict[str, str]) -> None:
+    """Refuse to run when a worker's solair/pvlib/xarray/... differ from the client's."""
+    try:
+        client.get_versions(check=True)
+    except ValueError as exc:
+        raise ConfigurationError(
+            f"dask client and workers run different package versions: {_one_line(exc)}") from None
+    remote = client.run(_worker_versions)
+    for worker, vers in sorted(remote.items()):
+        diff = {pkg: (client_versions.get(pkg), vers.get(pkg)) for pkg in SKEW_PACKAGES
+                if vers.get(pkg) != client_versions.get(pkg)}
+        if diff:
+            text = ", ".join(f"{pkg} {c} here but {w} on the worker"
+                             for pkg, (c, w) in diff.items())
+            raise ConfigurationError(
+                f"worker {worker} runs other versions than this client: {text}; install the same "
+                f"versions on every worker (see docs/scaling.md)")
+
+
+@contextlib.contextmanager
+def _client(*, workers: int | None, scheduler: str | None, scheduler_file: str | None,
+            memory_limit: str | float | None) -> Iterator[Any]:
+    import logging
+
+    from distributed import Client, LocalCluster
+
+    if scheduler or scheduler_file:
+        try:
+            client = (Client(scheduler_file=scheduler_file, timeout="20s") if scheduler_file
+                      else Client(scheduler, timeout="20s"))
+        except (OSError, TimeoutError, ValueError) as exc:
+            where = (f"--scheduler-file {scheduler_file!r}" if scheduler_file
+                     else f"scheduler {scheduler!r}")
+            raise ConfigurationError(f"cannot connect to the dask {where}: "
+                                     f"{_one_line(exc)}") from None
+        try:
+            yield client
+        finally:
+            client.close()
+        return
+    n = workers if workers else _cores()
+    cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
+                           memory_limit=memory_limit, dashboard_address=None,
+                           silence_logs=logging.ERROR)
+    client = Client(cluster)
+    try:
+        yield client
+    finally:
+        client.close()
+        cluster.close()
+
+
+def _cores() -> int:
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def _run_on_dask(tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]], None], *,
+                 workers: int | None, scheduler: str | None, scheduler_file: str | None,
+                 memory_limit: str | float | None, client_versions: dict[str, str],
+                 task_fn: Callable[[dict[str, Any]], dict[str, Any]]) -> None:
+    from distributed import as_completed
+
+    with _client(workers=workers, scheduler=scheduler, scheduler_file=scheduler_file,
+                 memory_limit=memory_limit) as client:
+        check_version_skew(client, client_versions)
+        n_threads = max(1, sum(client.nthreads().values()))
+        window = max(4, 2 * n_threads)  # bounded in-flight futures: flat client memory
+        queue = iter(tasks)
+        by_future: dict[Any, dict[str, Any]] = {}
+
+        def submit(task: dict[str, Any]):
+            fut = client.submit(_started, task_fn, task, pure=False,
+                                key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
+            by_future[fut] = task
+            return fut
+
+        pending = as_completed([submit(t) for _, t in zip(range(window), queue)])
+        for fut in pending:
+            task = by_future.pop(fut)
+            try:
+                rec = fut.result()
+            except Exception as exc:  # e.g. a worker killed under this task (KilledWorker)
+                rec = {"label": task["label"], "path": task["path"], "status": "failed",
+                       "error": _one_line(exc), "input_sha256": task.get("client_sha256"),
+                       "seconds": None, "worker": None}
+            fut.release()
+            finish(rec)
+            nxt = next(queue, None)
+            if nxt is not None:
+                pending.add(submit(nxt))
+

@@ -1,0 +1,62 @@
+"""``solair batch``: run a portfolio of climates x surfaces x finishes.
+
+Exit status: 0 when every climate is done or skipped, 1 when any climate failed
+(each failure is listed in one line), 2 for a configuration error (the group
+turns :class:`solair.errors.SolairError` into one stderr line).
+"""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+
+@click.command("batch")
+@click.argument("portfolio", type=click.Path(dir_okay=False, path_type=str))
+@click.option("--check", is_flag=True,
+              help="Validate the portfolio file (schema, files, globs, names) and stop.")
+@click.option("--workers", type=int, default=None, metavar="N",
+              help="Local worker processes (default: one per core); 0 runs serially in-process.")
+@click.option("--scheduler", metavar="ADDRESS", default=None,
+              help="Address of an existing dask.distributed scheduler, e.g. tcp://host:8786 "
+                   "(default: $DASK_SCHEDULER_ADDRESS if set).")
+@click.option("--scheduler-file", type=click.Path(dir_okay=False, path_type=str), default=None,
+              help="Scheduler file written by `dask scheduler --scheduler-file`.")
+@click.option("--force", is_flag=True, help="Recompute every climate, even unchanged ones.")
+@click.option("--output", "-o", type=click.Path(file_okay=False, path_type=str), default=None,
+              help="Output folder (overrides the portfolio's `output`).")
+@click.option("--memory-limit", default="auto", show_default=True, metavar="SIZE",
+              help="Memory limit per local worker (e.g. 4GiB).")
+def batch(portfolio: str, check: bool, workers: int | None, scheduler: str | None,
+          scheduler_file: str | None, force: bool, output: str | None,
+          memory_limit: str) -> None:
+    """Run PORTFOLIO (a TOML file): one task per weather file, results streamed to disk.
+
+    Writes, in the output folder, one NetCDF per climate (time x surface x
+    finish) under climates/, summary.csv (and summary.parquet when pyarrow is
+    installed) of the metrics per climate x surface x finish, and manifest.jsonl.
+    Unchanged climates are skipped on a rerun. Results are an engineering
+    estimate; verify against local codes and licensed professional practice.
+    """
+    from solair.portfolio import load_portfolio
+
+    resolved = load_portfolio(portfolio).resolve(output)
+    n_files = len(resolved.climates)
+    if check:
+        click.echo(f"{portfolio}: valid: {n_files} weather file(s), "
+                   f"{len(resolved.settings['surfaces'])} surface(s), "
+                   f"{len(resolved.settings['finishes'])} finish(es); output to "
+                   f"{resolved.output_dir}")
+        return
+    from solair.batch import CAUTION, run_portfolio
+
+    result = run_portfolio(resolved, workers=workers, scheduler=scheduler,
+                           scheduler_file=scheduler_file, force=force,
+                           memory_limit=memory_limit, progress=sys.stderr)
+    for rec in result.failed:
+        click.echo(f"failed: {rec['label']} ({rec['path']}): {rec['error']}", err=True)
+    click.echo(f"solair batch: {result.line()}; results in {result.output_dir}", err=True)
+    if result.summary_csv is not None:
+        click.echo(f"summary: {result.summary_csv} ({CAUTION})", err=True)
+    sys.exit(result.exit_code)
