@@ -34,6 +34,7 @@ import platform
 import socket
 import time
 import uuid
+import warnings
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -152,7 +153,8 @@ def run_climate(task: dict[str, Any]) -> dict[str, Any]:
     t0 = time.perf_counter()
     record: dict[str, Any] = {
         "label": task["label"], "path": task["path"], "status": "failed", "error": None,
-        "input_sha256": None, "worker": f"{socket.gethostname()}:{os.getpid()}",
+        "input_sha256": None, "config_sha256": task["config_hash"],
+        "worker": f"{socket.gethostname()}:{os.getpid()}",
         "n_metric_rows": 0,
     }
     try:
@@ -162,11 +164,17 @@ def run_climate(task: dict[str, Any]) -> dict[str, Any]:
         record["seconds"] = round(time.perf_counter() - t0, 4)
         return record
     try:
-        ds, metrics = compute_climate(task["path"], task["settings"])
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            ds, metrics = compute_climate(task["path"], task["settings"], task.get("utc_offset"))
+        notes = sorted({" ".join(str(w.message).split()) for w in caught})
+        if notes:
+            record["warnings"] = notes
         ds.attrs.update({
             "climate_label": task["label"],
             "weather_file_sha256": record["input_sha256"],
             "config_sha256": task["config_hash"],
+            "batch_warnings": "; ".join(notes),
             "portfolio": task.get("portfolio", ""),
             "caution": CAUTION,
         })
@@ -196,7 +204,7 @@ def _write_netcdf(ds, path: Path) -> None:
     atomic_write(path, write)
 
 
-def compute_climate(path: str, settings: dict[str, Any]):
+def compute_climate(path: str, settings: dict[str, Any], utc_offset: float | None = None):
     """Hourly results (time x surface x finish) and the metrics table of one weather file.
 
     Calls :func:`solair.compare.compare` with the portfolio's surfaces, finishes,
@@ -204,28 +212,21 @@ def compute_climate(path: str, settings: dict[str, Any]):
     """
     import solair
     from solair.compare import compare
+    from solair.constructions import Construction, Layer
     from solair.finishes import Finish
 
-    weather = solair.read_weather(path)
-    surfaces = [solair.Surface(name=s["name"], surface_tilt=s["surface_tilt"],
-                               surface_azimuth=s["surface_azimuth"])
+    weather = solair.read_weather(path, utc_offset=utc_offset)
+    surfaces = [solair.Surface(s["name"], s["surface_tilt"], s["surface_azimuth"])
                 for s in settings["surfaces"]]
-    finishes = [Finish(name=f["name"], absorptance=f["absorptance"], emissivity=f["emissivity"])
-                for f in settings["finishes"]]
-    models = {k: v for k, v in settings["models"].items() if v is not None}
+    finishes = [Finish(**f) for f in settings["finishes"]]
     construction = settings.get("construction")
     if construction is not None:
-        from solair.constructions import CONSTRUCTIONS
-
-        construction = CONSTRUCTIONS[construction["name"]]
+        construction = Construction(**{**construction, "layers": tuple(
+            Layer(**layer) for layer in construction["layers"])})
+    models = {k: v for k, v in settings["models"].items() if v is not None}
     ds, metrics = compare(weather, surfaces, finishes, construction=construction, **models)
     keep = settings.get("metrics", {}).get("keep") or []
     if keep:
-        missing = [k for k in keep if k not in metrics.columns]
-        if missing:
-            raise ConfigurationError(
-                f"metrics.keep = {keep!r}: {missing} are not metrics; allowed: "
-                f"{sorted(c for c in metrics.columns if c not in ('surface', 'finish'))}")
         metrics = metrics[[c for c in ("surface", "finish") if c in metrics.columns] + keep]
     return ds, metrics
 
@@ -437,11 +438,13 @@ def run_portfolio(
             sha = file_sha256(clim.path)
         except OSError:
             sha = None
+        task_hash = portfolio.task_config_hash(clim)
         task = {"label": clim.label, "path": clim.path, "out_dir": str(out_dir),
-                "settings": portfolio.settings, "config_hash": cfg_hash,
-                "portfolio": portfolio.name, "client_sha256": sha}
+                "settings": portfolio.settings, "config_hash": task_hash,
+                "utc_offset": clim.utc_offset, "portfolio": portfolio.name,
+                "client_sha256": sha}
         prev = previous.get(clim.label)
-        if not force and sha is not None and _is_current(prev, sha, cfg_hash, out_dir):
+        if not force and sha is not None and _is_current(prev, sha, task_hash, out_dir):
             skipped.append({**prev, "status": "skipped", "seconds": 0.0, "started": None,
                             "finished": None})
         else:
@@ -456,7 +459,7 @@ def run_portfolio(
                         "n_to_run": len(tasks), "force": force, "started": _now()})
         for rec in skipped:
             result.skipped.append(rec["label"])
-            manifest.write({**_task_record(rec, cfg_hash, vers), "status": "skipped",
+            manifest.write({**_task_record(rec, vers), "status": "skipped",
                             "skipped_because": "weather file and settings unchanged"})
         bar.skip(len(skipped))
 
@@ -468,7 +471,7 @@ def run_portfolio(
                 for p in _outputs(out_dir, rec["label"]):  # never keep stale results
                     with contextlib.suppress(OSError):
                         p.unlink()
-            manifest.write(_task_record(rec, cfg_hash, vers))
+            manifest.write(_task_record(rec, vers))
             bar.update(rec)
 
         if tasks:
@@ -500,15 +503,15 @@ def _started(fn: Callable[[dict], dict], task: dict[str, Any]) -> dict[str, Any]
     return rec
 
 
-def _task_record(rec: dict[str, Any], cfg_hash: str, vers: dict[str, str]) -> dict[str, Any]:
+def _task_record(rec: dict[str, Any], vers: dict[str, str]) -> dict[str, Any]:
     return {
         "event": "task", "label": rec["label"],
         "weather_file": rec.get("path") or rec.get("weather_file"),
-        "input_sha256": rec.get("input_sha256"), "config_sha256": cfg_hash,
+        "input_sha256": rec.get("input_sha256"), "config_sha256": rec.get("config_sha256"),
         "status": rec["status"], "error": rec.get("error"), "seconds": rec.get("seconds"),
         "worker": rec.get("worker"), "started": rec.get("started"),
         "finished": rec.get("finished") or _now(), "versions": rec.get("versions") or vers,
-        "n_metric_rows": rec.get("n_metric_rows"),
+        "n_metric_rows": rec.get("n_metric_rows"), "warnings": rec.get("warnings", []),
     }
 
 
@@ -643,6 +646,7 @@ def _run_on_dask(tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]],
             except Exception as exc:  # e.g. a worker killed under this task (KilledWorker)
                 rec = {"label": task["label"], "path": task["path"], "status": "failed",
                        "error": _one_line(exc), "input_sha256": task.get("client_sha256"),
+                       "config_sha256": task["config_hash"],
                        "seconds": None, "worker": None}
             fut.release()
             finish(rec)

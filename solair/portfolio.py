@@ -41,6 +41,7 @@ that travel to the workers (:class:`ResolvedPortfolio`).
 
 from __future__ import annotations
 
+import dataclasses
 import glob
 import hashlib
 import json
@@ -99,6 +100,9 @@ class ClimateEntry(_Strict):
 
     path: str = Field(min_length=1, description="weather file or glob pattern")
     label: str | None = Field(default=None, description="name of the climate in the outputs")
+    utc_offset: float | None = Field(
+        default=None, ge=-12.0, le=14.0,
+        description="[h] UTC offset of the file's time stamps, overriding its header")
 
     @field_validator("label")
     @classmethod
@@ -197,6 +201,7 @@ class ResolvedClimate:
     label: str
     path: str
     entry: str  # key path of the portfolio entry it came from, for messages
+    utc_offset: float | None = None
 
 
 @dataclass(frozen=True)
@@ -213,6 +218,12 @@ class ResolvedPortfolio:
     def config_hash(self) -> str:
         """sha256 of the canonical JSON of the settings that affect results."""
         return config_hash(self.settings)
+
+    def task_config_hash(self, climate: ResolvedClimate) -> str:
+        """The configuration hash of one climate: the settings plus its own options."""
+        if climate.utc_offset is None:
+            return self.config_hash
+        return config_hash({"settings": self.config_hash, "utc_offset": climate.utc_offset})
 
 
 def config_hash(settings: dict[str, Any]) -> str:
@@ -350,7 +361,7 @@ def _format_errors(exc: ValidationError, data: dict, filename: str) -> str:
         if kind == "extra_forbidden":
             model = _model_at(loc)
             allowed = _allowed_keys(model) if model is not None else "see docs"
-            parts.append(f"{where}: unknown key; allowed keys: {allowed}")
+            parts.append(f"{where} = {err.get('input')!r}: unknown key; allowed keys: {allowed}")
             continue
         if kind == "missing":
             parts.append(f"{where}: required key is missing")
@@ -408,12 +419,13 @@ def _resolve(pf: Portfolio, output: str | os.PathLike | None) -> ResolvedPortfol
                     f"{fname}: {entry_key}: the climate label {label!r} ({f}) is already used by "
                     f"{seen[label]}; give the entries distinct labels")
             seen[label] = f"{entry_key} ({f})"
-            climates.append(ResolvedClimate(label=label, path=f, entry=entry_key))
+            climates.append(ResolvedClimate(label=label, path=f, entry=entry_key,
+                                            utc_offset=entry.utc_offset))
 
     settings = {
         "surfaces": _resolve_surfaces(pf, fname),
         "finishes": _resolve_finishes(pf, fname),
-        "construction": _resolve_construction(pf, fname),
+        "construction": _resolve_construction(pf, fname, base),
         "models": _resolve_models(pf, fname),
         "metrics": {"keep": list(pf.metrics.keep)},
     }
@@ -467,6 +479,8 @@ def _resolve_surfaces(pf: Portfolio, fname: str) -> list[dict[str, Any]]:
 
 
 def _resolve_finishes(pf: Portfolio, fname: str) -> list[dict[str, Any]]:
+    from solair.finishes import Finish, available_finishes, get_finish
+
     out: list[dict[str, Any]] = []
     seen: set[str] = set()
     for i, f in enumerate(pf.finishes):
@@ -475,37 +489,41 @@ def _resolve_finishes(pf: Portfolio, fname: str) -> list[dict[str, Any]]:
             raise ConfigurationError(f"{here}.name = {f.name!r}: the finish is listed twice")
         seen.add(f.name)
         if f.absorptance is None and f.emissivity is None:
-            from solair.finishes import FINISHES
-
-            if f.name not in FINISHES:
+            if f.name not in available_finishes():
                 raise ConfigurationError(
                     f"{here}.name = {f.name!r}: not a catalogue finish; give absorptance and "
-                    f"emissivity inline or use one of {sorted(FINISHES)}")
-            cat = FINISHES[f.name]
-            out.append({"name": f.name, "absorptance": float(cat.absorptance),
-                        "emissivity": float(cat.emissivity), "catalogue": True})
+                    f"emissivity inline or use one of {available_finishes()}")
+            finish = get_finish(f.name)
         elif f.absorptance is None or f.emissivity is None:
             missing = "absorptance" if f.absorptance is None else "emissivity"
             raise ConfigurationError(
                 f"{here}.{missing}: required key is missing (an inline finish gives both "
                 f"absorptance and emissivity; a catalogue finish gives neither)")
         else:
-            out.append({"name": f.name, "absorptance": f.absorptance,
-                        "emissivity": f.emissivity, "catalogue": False})
+            try:
+                finish = Finish(name=f.name, absorptance=f.absorptance, emissivity=f.emissivity,
+                                label=f.name, source=f"portfolio file {fname}")
+            except ConfigurationError as exc:
+                raise ConfigurationError(f"{here}: {exc}") from None
+        out.append(dataclasses.asdict(finish))
     return out
 
 
-def _resolve_construction(pf: Portfolio, fname: str) -> Any:
+def _resolve_construction(pf: Portfolio, fname: str, base: Path) -> dict[str, Any] | None:
+    """The construction as a plain dict: a library name, ``FILE.toml`` or ``FILE.toml:NAME``."""
     if pf.construction is None:
         return None
-    from solair import constructions
+    from solair.constructions import resolve_construction
 
-    library = getattr(constructions, "CONSTRUCTIONS", {})
-    if pf.construction not in library:
-        raise ConfigurationError(
-            f"{fname}: construction = {pf.construction!r}: not a library construction; "
-            f"allowed: {sorted(library)}")
-    return {"name": pf.construction, "definition": repr(library[pf.construction])}
+    spec = pf.construction
+    if ".toml" in spec:
+        path, sep, name = spec.partition(".toml")
+        spec = str(Path(expand_path_tokens(path + ".toml", base))) + name
+    try:
+        construction = resolve_construction(spec)
+    except ConfigurationError as exc:
+        raise ConfigurationError(f"{fname}: construction = {pf.construction!r}: {exc}") from None
+    return dataclasses.asdict(construction)
 
 
 def _resolve_models(pf: Portfolio, fname: str) -> dict[str, Any]:
