@@ -228,7 +228,8 @@ def _check_ranges(data: pd.DataFrame, line: np.ndarray, name: str, notes: list[s
     for col, (lo, hi) in RANGES.items():
         if col not in data:
             continue
-        v = data[col].to_numpy()
+        v = data[col].to_numpy() + 0.0  # + 0.0 turns -0.0 into 0.0
+        data[col] = v
         if col in _IRRADIANCE or col == "ghi_infrared":
             small = (v < lo) & (v >= _NEGATIVE_TOLERANCE)
             if small.any():
@@ -401,7 +402,7 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
             msg = (f"{name}: the irradiance peaks {abs(timing):.1f} h "
                    f"{'earlier' if timing < 0 else 'later'} than the sun does at UTC{offset:+g} h; "
                    f"the rows look stamped in UTC{fits:+g} h. If so, read it with "
-                   f"utc_offset={fits:g} (CLI: --utc-offset {fits:g})")
+                   f"utc_offset={fits:g} (on the command line: --utc-offset {fits:g})")
             notes.append(msg.split(": ", 1)[1])
             warnings.warn(msg, WeatherWarning, stacklevel=3)
     _check_consistency(data, line, name, raw.meta["latitude"], raw.meta["longitude"], shift)
