@@ -1,0 +1,284 @@
+"""The exterior surface balance: sol-air temperature T_eq, h_e and R_se.
+
+A sunlit outer surface gains α G of solar radiation, exchanges heat by
+convection with the air and by long-wave radiation with the sky, the
+near-horizon air and the ground:
+
+.. math::
+
+    q = \\alpha G + h_c (T_a - T_s)
+        + \\varepsilon\\sigma \\sum_x F_x (T_x^4 - T_s^4), \\qquad x \\in \\{sky, air, gnd\\}
+
+With secant radiative coefficients :math:`h_{r,x}` (:func:`solair.longwave.h_rad_secant`)
+it becomes :math:`q = h_e (T_{eq} - T_s)` with
+
+.. math::
+
+    T_{eq} = \\frac{h_c T_a + \\sum_x h_{r,x} T_x + \\alpha G}{h_e}, \\qquad
+    h_e = h_c + \\sum_x h_{r,x}, \\qquad R_{se} = 1/h_e
+
+The linearisation point of :math:`h_{r,x}` is the air temperature
+(``linearisation="air"``, one pass) or the surface solution itself
+(``"surface"``): then T_eq is the temperature of a massless adiabatic surface,
+the surface temperature of ASTM E1980-11.
+
+References
+----------
+.. [1] ASHRAE (2017). Handbook - Fundamentals, ch. 18, "Sol-air temperature".
+.. [2] ASTM E1980-11 (2019). Standard Practice for Calculating Solar
+   Reflectance Index of Horizontal and Low-Sloped Opaque Surfaces.
+.. [3] ISO 6946:2017, Annex C.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from solair.errors import ConfigurationError
+from solair.longwave import KELVIN, SIGMA, h_rad_secant
+
+__all__ = ["LINEARISATIONS", "H_E_CONVENTIONAL", "temp_sol_air", "surface_balance_residual"]
+
+Array = NDArray[np.float64]
+
+#: Allowed linearisation points of the radiative coefficients.
+LINEARISATIONS = frozenset({"air", "surface"})
+#: h_e = 1/R_se of the ISO 6946 conventional R_se = 0.04 m2 K W-1.
+H_E_CONVENTIONAL = 25.0
+
+
+def _as_checked(name: str, value: ArrayLike, low: float = -np.inf, high: float = np.inf) -> Array:
+    arr = np.asarray(value, dtype=float)
+    bad = ~np.isfinite(arr) | (arr < low) | (arr > high)
+    if np.any(bad):
+        bounded = not (np.isinf(low) and np.isinf(high))
+        allowed = f"finite and in [{low:g}, {high:g}]" if bounded else "finite"
+        raise ConfigurationError(
+            f"{name} holds {int(np.count_nonzero(bad))} value(s) that are not {allowed}, "
+            f"e.g. {arr[bad].ravel()[0]!r}"
+        )
+    return arr
+
+
+def _inputs(temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
+            view_sky, view_air, view_ground):
+    ta = _as_checked("temp_air", temp_air, -KELVIN, 1e4)
+    tg = ta if temp_ground is None else _as_checked("temp_ground", temp_ground, -KELVIN, 1e4)
+    return (
+        ta,
+        _as_checked("poa_global", poa_global),
+        _as_checked("absorptance", absorptance, 0.0, 1.0),
+        _as_checked("emissivity", emissivity, 0.0, 1.0),
+        _as_checked("h_conv", h_conv, 0.0),
+        _as_checked("temp_sky", temp_sky, -KELVIN, 1e4),
+        tg,
+        _as_checked("view_sky", view_sky, 0.0, 1.0),
+        _as_checked("view_air", view_air, 0.0, 1.0),
+        _as_checked("view_ground", view_ground, 0.0, 1.0),
+    )
+
+
+def surface_balance_residual(
+    temp_surface: ArrayLike,
+    temp_air: ArrayLike,
+    poa_global: ArrayLike,
+    absorptance: ArrayLike,
+    emissivity: ArrayLike,
+    h_conv: ArrayLike,
+    temp_sky: ArrayLike,
+    *,
+    temp_ground: ArrayLike | None = None,
+    view_sky: ArrayLike,
+    view_air: ArrayLike,
+    view_ground: ArrayLike,
+    sigma: float = SIGMA,
+) -> Array:
+    r"""Net heat flux into the outer surface at a given surface temperature [W m-2].
+
+    .. math::
+
+        q = \alpha G + h_c (T_a - T_s) + \varepsilon\sigma\left[F_{sky}(T_{sky}^4 - T_s^4)
+            + F_{air}(T_a^4 - T_s^4) + F_{gnd}(T_{gnd}^4 - T_s^4)\right]
+
+    Zero at the massless adiabatic surface temperature. Temperatures in °C
+    (K inside); the ground is at air temperature when ``temp_ground`` is None.
+    """
+    ta, g, a, e, hc, tsky, tg, fs, fa, fg = _inputs(
+        temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
+        view_sky, view_air, view_ground)
+    ts = np.asarray(temp_surface, dtype=float) + KELVIN
+    ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
+    ts4 = ts**4
+    lw = e * sigma * (fs * (tsky_k**4 - ts4) + fa * (ta_k**4 - ts4) + fg * (tg_k**4 - ts4))
+    return a * g + hc * (ta_k - ts) + lw
+
+
+def _newton_surface(q0, hc, esf, t0, tol, max_iter):
+    """Solve q0 - hc T - esf T^4 = 0 for T [K] by vectorised Newton (global for T > 0)."""
+    t = np.maximum(t0, 1.0)
+    for _ in range(max_iter):
+        t3 = t**3
+        step = (q0 - hc * t - esf * t3 * t) / (hc + 4.0 * esf * t3)
+        t = t + step
+        if np.max(np.abs(step), initial=0.0) <= tol:
+            return t
+    raise ConfigurationError(
+        f"surface balance did not converge to {tol:g} K in {max_iter} Newton steps "
+        f"(largest last step {np.max(np.abs(step)):.3g} K); check the inputs' magnitudes"
+    )
+
+
+def temp_sol_air(
+    temp_air: ArrayLike,
+    poa_global: ArrayLike,
+    absorptance: ArrayLike,
+    emissivity: ArrayLike,
+    h_conv: ArrayLike,
+    temp_sky: ArrayLike,
+    *,
+    temp_ground: ArrayLike | None = None,
+    view_sky: ArrayLike,
+    view_air: ArrayLike,
+    view_ground: ArrayLike,
+    linearisation: str = "air",
+    conventional: bool = False,
+    tol: float = 1e-6,
+    sigma: float = SIGMA,
+    max_iter: int = 100,
+) -> dict[str, Array]:
+    r"""Sol-air (exterior equivalent) temperature, h_e and R_se of an outer surface.
+
+    .. math::
+
+        T_{eq} = \frac{h_c T_a + h_{r,sky} T_{sky} + h_{r,air} T_a + h_{r,gnd} T_{gnd}
+                       + \alpha G}{h_e},
+        \qquad h_e = h_c + \sum_x h_{r,x}, \qquad R_{se} = 1/h_e
+
+    with :math:`h_{r,x} = \varepsilon\sigma F_x (T_x^2 + T_{ref}^2)(T_x + T_{ref})`.
+
+    * ``linearisation="air"``: :math:`T_{ref} = T_a` (one pass). Then
+      :math:`h_e (T_{eq} - T_a)` equals the net exchange of a surface at T_a.
+    * ``linearisation="surface"``: :math:`T_{ref}` is the massless adiabatic
+      surface temperature, the root of :func:`surface_balance_residual`, found
+      by vectorised Newton iteration on the exact quartic to ``tol`` K (the
+      residual is concave and decreasing in T_s, so Newton converges from any
+      positive start); then :math:`T_{eq} = T_{ref}`, ASTM E1980's surface
+      temperature.
+    * ``conventional=True``: ISO 6946's conventional R_se = 0.04 m2 K W-1, i.e.
+      h_e fixed at 25 W m-2 K-1 and h_c = 25 - Σ h_r,x (the given ``h_conv`` is
+      not used); with "surface" the h_r,x are evaluated at the solution by
+      fixed-point iteration.
+
+    Parameters
+    ----------
+    temp_air : array_like
+        Air temperature [°C].
+    poa_global : array_like
+        Solar irradiance on the plane G [W m-2].
+    absorptance : array_like
+        Solar absorptance α [-].
+    emissivity : array_like
+        Thermal emissivity ε [-].
+    h_conv : array_like
+        Convective coefficient h_c [W m-2 K-1].
+    temp_sky : array_like
+        Effective sky temperature [°C].
+    temp_ground : array_like, optional
+        Ground and surroundings temperature [°C]; default the air temperature.
+    view_sky, view_air, view_ground : array_like
+        View factors (:func:`solair.longwave.view_factors`) [-].
+    linearisation : {"air", "surface"}, default "air"
+    conventional : bool, default False
+    tol : float, default 1e-6
+        Convergence tolerance of the "surface" solution [K].
+    sigma : float, default CODATA 5.670374419e-8
+        Stefan-Boltzmann constant [W m-2 K-4] (ASTM E1980 uses 5.66961e-8).
+    max_iter : int, default 100
+
+    Returns
+    -------
+    dict of ndarray, all broadcast to a common shape
+        ``temp_sol_air`` [°C], ``h_rad`` (Σ h_r,x), ``h_rad_sky``, ``h_rad_air``,
+        ``h_rad_ground``, ``h_e``, ``h_conv`` [W m-2 K-1] and ``r_se`` [m2 K W-1].
+
+    Raises
+    ------
+    ConfigurationError
+        Unknown linearisation, non-finite or out-of-range inputs, h_e ≤ 0, a
+        conventional h_rad above 25, or no convergence.
+
+    References
+    ----------
+    .. [1] ASHRAE (2017). Handbook - Fundamentals, ch. 18.
+    .. [2] ASTM E1980-11 (2019), surface balance of the SRI calculation.
+    .. [3] ISO 6946:2017, 6.8 and Annex C (R_se = 0.04 m2 K W-1).
+    """
+    if linearisation not in LINEARISATIONS:
+        raise ConfigurationError(
+            f"linearisation {linearisation!r} is not one of {sorted(LINEARISATIONS)}"
+        )
+    ta, g, a, e, hc, tsky, tg, fs, fa, fg = _inputs(
+        temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
+        view_sky, view_air, view_ground)
+    shape = np.broadcast_shapes(*(x.shape for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)))
+    ta, g, a, e, hc, tsky, tg, fs, fa, fg = (
+        np.broadcast_to(x, shape) for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg))
+    ag = a * g
+
+    def coefficients(t_ref):
+        return (h_rad_secant(e, fs, tsky, t_ref, sigma=sigma),
+                h_rad_secant(e, fa, ta, t_ref, sigma=sigma),
+                h_rad_secant(e, fg, tg, t_ref, sigma=sigma))
+
+    if conventional:
+        t_ref = ta
+        for _ in range(max_iter if linearisation == "surface" else 1):
+            hs, ha, hg = coefficients(t_ref)
+            t_new = ta + (ag + hs * (tsky - ta) + hg * (tg - ta)) / H_E_CONVENTIONAL
+            step = np.max(np.abs(t_new - t_ref), initial=0.0)
+            t_ref = t_new
+            if step <= tol:
+                break
+        else:
+            if linearisation == "surface":
+                raise ConfigurationError(
+                    f"conventional surface balance did not converge to {tol:g} K in "
+                    f"{max_iter} steps")
+        if linearisation == "surface":
+            hs, ha, hg = coefficients(t_ref)
+        h_rad = hs + ha + hg
+        if np.any(h_rad >= H_E_CONVENTIONAL):
+            raise ConfigurationError(
+                f"conventional R_se: h_rad up to {np.max(h_rad):.3g} W m-2 K-1 leaves no room "
+                f"for convection within h_e = {H_E_CONVENTIONAL:g}")
+        hc = H_E_CONVENTIONAL - h_rad
+    elif linearisation == "air":
+        hs, ha, hg = coefficients(ta)
+    else:
+        ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
+        esf = e * sigma * (fs + fa + fg)
+        if np.any(hc + esf <= 0.0):
+            raise ConfigurationError(
+                "h_conv and emissivity x view factors are all zero for some element: "
+                "the surface exchanges no heat (h_e = 0)")
+        q0 = ag + hc * ta_k + e * sigma * (fs * tsky_k**4 + fa * ta_k**4 + fg * tg_k**4)
+        hs0, ha0, hg0 = coefficients(ta)
+        t0 = (hc * ta_k + hs0 * tsky_k + ha0 * ta_k + hg0 * tg_k + ag) / (hc + hs0 + ha0 + hg0)
+        t_surf = _newton_surface(q0, hc, esf, t0, tol, max_iter) - KELVIN
+        hs, ha, hg = coefficients(t_surf)
+    h_rad = hs + ha + hg
+    h_e = hc + h_rad
+    if np.any(h_e <= 0.0):
+        raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
+    t_eq = (hc * ta + hs * tsky + ha * ta + hg * tg + ag) / h_e
+    return {
+        "temp_sol_air": t_eq,
+        "h_rad": h_rad,
+        "h_rad_sky": hs,
+        "h_rad_air": ha,
+        "h_rad_ground": hg,
+        "h_e": h_e,
+        "h_conv": np.array(hc, dtype=float),
+        "r_se": 1.0 / h_e,
+    }
