@@ -473,7 +473,7 @@ def sky_spread_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
         spread = (_series(ds, "temp_sol_air_max", names[0], finish)
                   - _series(ds, "temp_sol_air_min", names[0], finish))
         at = shaping.mid_hour(labels)[int(np.nanargmax(spread))]
-        week = min(int((at.dayofyear - 1) // 7) + 1, 52)
+        week = min(int((at.day_of_year - 1) // 7) + 1, 52)
     mask = shaping.week_mask(labels, week=week, start=start)
     t = labels[mask] - pd.Timedelta(minutes=30)
     fig = _figure(5.6)

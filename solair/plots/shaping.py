@@ -85,7 +85,7 @@ def mid_hour(labels: pd.DatetimeIndex) -> pd.DatetimeIndex:
 def _day_and_hour(labels: pd.DatetimeIndex) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Day of a non-leap year (1–365), hour of day (0–23) and a keep-mask (drops 29 Feb)."""
     mid = mid_hour(labels)
-    doy = np.asarray(mid.dayofyear)
+    doy = np.asarray(mid.day_of_year)
     leap = np.asarray(mid.is_leap_year)
     month = np.asarray(mid.month)
     day = np.asarray(mid.day)
