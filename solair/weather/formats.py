@@ -259,6 +259,11 @@ _TMY3_FIELDS = {
     "opaque_sky_cover": ("OpqCld (tenths)", "OpqCld source", 1.0),
     "albedo": ("albedo", "Alb source", 1.0),
 }
+# canonical -> the column heading in the TMY3 file (for messages)
+_TMY3_LABELS = {"temp_air": "Dry-bulb (C)", "temp_dew": "Dew-point (C)", "relative_humidity":
+                "RHum (%)", "pressure": "Pressure (mbar)", "ghi": "GHI (W/m^2)",
+                "dni": "DNI (W/m^2)", "dhi": "DHI (W/m^2)", "wind_direction": "Wdir (degrees)",
+                "wind_speed": "Wspd (m/s)", "albedo": "Alb (unitless)"}
 _TMY3_TIME = re.compile(r"^(\d{1,2}):(\d{2})$")
 _TMY3_DATE = re.compile(r"^(\d{1,2})/(\d{1,2})/(\d{4})$")
 
@@ -313,7 +318,8 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
             if col in REQUIRED:
                 raise _fail(name, f"TMY3 column for {col} ({src}) is missing", 2)
             continue
-        v = _to_number(df[src].reset_index(drop=True), src, line_no, name, col)
+        label = _TMY3_LABELS.get(col, src)
+        v = _to_number(df[src].reset_index(drop=True), f"column {label!r}", line_no, name, col)
         v[v <= _TMY3_MISSING] = np.nan
         if flag in df.columns and col in OPTIONAL:
             v[df[flag].astype(str).str.strip().to_numpy() == "?"] = np.nan
@@ -386,11 +392,12 @@ def _parse_tmy2(text: str, name: str) -> RawTable:
     line_no = np.arange(2, 2 + len(body))
     wanted = ["month", "day", "hour"] + [src for src, _ in _TMY2_FIELDS.values()]
     raw = {k: [ln[_TMY2_POS[k][0]:_TMY2_POS[k][1]] for ln in body] for k in wanted}
+    canon = {src: col for col, (src, _) in _TMY2_FIELDS.items()}
     ints = {}
     for k in wanted:
         s = pd.Series(raw[k])
-        ints[k] = _to_number(s, f"columns {_TMY2_POS[k][0] + 1}-{_TMY2_POS[k][1]}",
-                             line_no, name, k)
+        where = f"TMY2 {k}, columns {_TMY2_POS[k][0] + 1}-{_TMY2_POS[k][1]}"
+        ints[k] = _to_number(s, where, line_no, name, canon.get(k, k))
     month, day, hour = (ints[k].astype(int) for k in ("month", "day", "hour"))
     _check_calendar(month, day, hour, line_no, name)
     out = {}
