@@ -39,7 +39,7 @@ def test_greensboro_tmy3_canonical_and_si(greensboro_path, greensboro_weather):
     w = greensboro_weather
     _check_canonical(w)
     assert w.site.source_format == "tmy3"
-    # header line of the NREL file: 723170,"GREENSBORO PIEDMONT TRIAD INT",NC,-5.0,36.100,-79.950,273
+    # header of the NREL file: 723170,"GREENSBORO PIEDMONT TRIAD INT",NC,-5.0,36.100,-79.950,273
     assert (w.site.latitude, w.site.longitude, w.site.altitude, w.site.utc_offset) == (
         36.1, -79.95, 273.0, -5.0)
     with open(greensboro_path, newline="") as f:
