@@ -61,6 +61,8 @@ SUMMARY = "summary"
 _TMP_MARK = ".tmp-"
 #: packages whose versions must agree between the client and every worker
 SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf")
+#: how long to wait for an existing scheduler to answer
+CONNECT_TIMEOUT = "20s"
 
 
 # --------------------------------------------------------------------------- small helpers
@@ -211,7 +213,6 @@ def compute_climate(path: str, settings: dict[str, Any], utc_offset: float | Non
     construction and model choices; keeps only the metric columns asked for.
     """
     import solair
-    from solair.compare import compare
     from solair.constructions import Construction, Layer
     from solair.finishes import Finish
 
@@ -224,10 +225,44 @@ def compute_climate(path: str, settings: dict[str, Any], utc_offset: float | Non
         construction = Construction(**{**construction, "layers": tuple(
             Layer(**layer) for layer in construction["layers"])})
     models = {k: v for k, v in settings["models"].items() if v is not None}
-    ds, metrics = compare(weather, surfaces, finishes, construction=construction, **models)
+    try:
+        from solair.compare import compare
+    except ImportError:
+        ds, metrics = _engine_only(weather, surfaces, finishes, models)
+    else:
+        ds, metrics = compare(weather, surfaces, finishes, construction=construction, **models)
     keep = settings.get("metrics", {}).get("keep") or []
     if keep:
         metrics = metrics[[c for c in ("surface", "finish") if c in metrics.columns] + keep]
+    return ds, metrics
+
+
+def _engine_only(weather, surfaces, finishes, models):
+    import numpy as np
+    import pandas as pd
+    import xarray as xr
+
+    from solair.engine import exterior_forcing, sol_air
+
+    forcing = exterior_forcing(weather, surfaces, **{k: v for k, v in models.items()
+                                                     if k in ("sky", "transposition",
+                                                              "convection", "albedo")})
+    names = [f.name for f in finishes]
+    alpha = xr.DataArray([f.absorptance for f in finishes], dims="finish",
+                         coords={"finish": names})
+    eps = xr.DataArray([f.emissivity for f in finishes], dims="finish", coords={"finish": names})
+    ds = sol_air(forcing, alpha, eps, linearisation=models.get("linearisation", "air"))
+    ds = ds.assign_coords(absorptance=alpha, emissivity=eps)
+    ds.attrs.update(forcing.attrs)
+    t = ds["temp_sol_air"].transpose("surface", "finish", "time").values
+    s_idx, f_idx = np.meshgrid(np.arange(t.shape[0]), np.arange(t.shape[1]), indexing="ij")
+    metrics = pd.DataFrame({
+        "surface": ds["surface"].values[s_idx.ravel()],
+        "finish": ds["finish"].values[f_idx.ravel()],
+        "temp_sol_air_max": t.max(axis=-1).ravel(),
+        "temp_sol_air_p99": np.percentile(t, 99, axis=-1).ravel(),
+        "temp_sol_air_mean": t.mean(axis=-1).ravel(),
+    })
     return ds, metrics
 
 
@@ -587,8 +622,8 @@ def _client(*, workers: int | None, scheduler: str | None, scheduler_file: str |
 
     if scheduler or scheduler_file:
         try:
-            client = (Client(scheduler_file=scheduler_file, timeout="20s") if scheduler_file
-                      else Client(scheduler, timeout="20s"))
+            client = (Client(scheduler_file=scheduler_file, timeout=CONNECT_TIMEOUT)
+                      if scheduler_file else Client(scheduler, timeout=CONNECT_TIMEOUT))
         except (OSError, TimeoutError, ValueError) as exc:
             where = (f"--scheduler-file {scheduler_file!r}" if scheduler_file
                      else f"scheduler {scheduler!r}")
