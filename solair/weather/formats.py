@@ -152,6 +152,22 @@ def _to_number(values: pd.Series, column: str, lines: np.ndarray, name: str,
     return np.array(num.to_numpy(dtype=float), copy=True)
 
 
+def _numeric_fields(parts: list[str], check, line: int, name: str) -> None:
+    """Each (index, canonical name, label) field of ``parts`` must be a number.
+
+    Checked on the raw text because pandas silently reads "NA", "n/a", "null" or an
+    empty field as NaN, which would then pass for a gap.
+    """
+    for k, col, label in check:
+        t = parts[k].strip()
+        try:
+            float(t)
+        except ValueError:
+            raise _fail(name, f"{col} ({label}) = {t!r} is not a number", line) from None
+        if t.lower() in ("nan", "inf", "-inf", "+inf", "infinity", "-infinity"):
+            raise _fail(name, f"{col} ({label}) = {t!r} is not a number", line)
+
+
 def _int_field(text: str, what: str, line: int, name: str) -> int:
     t = text.strip()
     if not re.fullmatch(r"[-+]?\d+", t):
@@ -190,6 +206,9 @@ _EPW_FIELDS = {
 }
 
 
+_EPW_CHECK = [(fno - 1, col, f"field {fno}") for col, (_, fno, _) in _EPW_FIELDS.items()]
+
+
 def _parse_epw(text: str, name: str) -> RawTable:
     from pvlib.iotools import read_epw
 
@@ -219,6 +238,7 @@ def _parse_epw(text: str, name: str) -> RawTable:
         if len(parts) != _EPW_NFIELDS:
             raise _fail(name, f"{len(parts)} comma-separated fields, expected {_EPW_NFIELDS}",
                         i + 9)
+        _numeric_fields(parts, _EPW_CHECK, i + 9, name)
         month[i] = _int_field(parts[1], "month (field 2)", i + 9, name)
         day[i] = _int_field(parts[2], "day (field 3)", i + 9, name)
         hour[i] = _int_field(parts[3], "hour (field 4)", i + 9, name)
@@ -263,7 +283,8 @@ _TMY3_FIELDS = {
 _TMY3_LABELS = {"temp_air": "Dry-bulb (C)", "temp_dew": "Dew-point (C)", "relative_humidity":
                 "RHum (%)", "pressure": "Pressure (mbar)", "ghi": "GHI (W/m^2)",
                 "dni": "DNI (W/m^2)", "dhi": "DHI (W/m^2)", "wind_direction": "Wdir (degrees)",
-                "wind_speed": "Wspd (m/s)", "albedo": "Alb (unitless)"}
+                "wind_speed": "Wspd (m/s)", "total_sky_cover": "TotCld (tenths)",
+                "opaque_sky_cover": "OpqCld (tenths)", "albedo": "Alb (unitless)"}
 _TMY3_TIME = re.compile(r"^(\d{1,2}):(\d{2})$")
 _TMY3_DATE = re.compile(r"^(\d{1,2})/(\d{1,2})/(\d{4})$")
 
@@ -290,6 +311,8 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
     for col in needed:
         if col not in columns:
             raise _fail(name, f"TMY3 column header lacks {col!r}", 2)
+    check = [(columns.index(label), col, f"column {label!r}")
+             for col, label in _TMY3_LABELS.items() if label in columns]
     body = _data_lines(lines, 2, name)
     month = np.empty(len(body), dtype=int)
     day = np.empty(len(body), dtype=int)
@@ -299,6 +322,7 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
         if len(parts) != ncol:
             raise _fail(name, f"{len(parts)} comma-separated fields, expected {ncol} as in "
                         "the column header on line 2", i + 3)
+        _numeric_fields(parts, check, i + 3, name)
         d = _TMY3_DATE.match(parts[0].strip())
         t = _TMY3_TIME.match(parts[1].strip())
         if d is None:

@@ -120,6 +120,10 @@ def _build_index(raw: RawTable, name: str, utc_offset: float, notes: list[str]):
     data = raw.data
     leap = (month == 2) & (day == 29)
     if leap.any():
+        if int(leap.sum()) != 24 or len(month) != 8784:
+            raise _fail(name, f"has {len(month)} hourly rows with {int(leap.sum())} on "
+                        "29 February; a leap year has 8784 rows with 24 on 29 February",
+                        int(line[leap][0]))
         keep = ~leap
         notes.append(f"29 February dropped ({int(leap.sum())} rows, lines "
                      f"{int(line[leap][0])}-{int(line[leap][-1])}) to fit the non-leap "
