@@ -397,8 +397,8 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
         "utc_offset_hours": float(site.utc_offset),
         "time_convention": _TIME_CONVENTION,
         "sunrise_sunset_hours": int(geom.crossing.sum()),
-        "perez_fallback_hours": int(poa["sky_diffuse_fallback_hours"])
-        if transposition == "perez" else 0,
+        "perez_fallback_hours": int(poa["sky_diffuse_fallback_hours"]),
+        "perez_fallback_hours_with_diffuse": int(poa["sky_diffuse_fallback_hours_with_diffuse"]),
         "beam_hours_sun_below_horizon": beam_lost,
         "weather_notes": " | ".join(getattr(w, "notes", []) or []),
         "caution": CAUTION,

@@ -22,7 +22,7 @@ from __future__ import annotations
 import contextlib
 import itertools
 import os
-import tempfile
+import uuid
 from pathlib import Path
 
 import numpy as np
@@ -123,9 +123,8 @@ class _Atomic(contextlib.AbstractContextManager):
             raise ConfigurationError(f"output folder {str(folder)!r} does not exist")
         if self.path.is_dir():
             raise ConfigurationError(f"output path {str(self.path)!r} is a folder, not a file")
-        fd, tmp = tempfile.mkstemp(prefix=f".{self.path.name}.", suffix=".part", dir=folder)
-        os.close(fd)
-        self.tmp = Path(tmp)
+        # a fresh name, created by the writer itself (so it gets the usual permissions)
+        self.tmp = folder / f".{self.path.name}.{uuid.uuid4().hex[:12]}.part"
         return self.tmp
 
     def __exit__(self, exc_type, exc, tb) -> bool:

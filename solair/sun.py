@@ -451,7 +451,8 @@ def plane_of_array(
         ``poa_global``, ``poa_direct``, ``poa_sky_diffuse``,
         ``poa_ground_diffuse`` (n_hours, n_surfaces) [W m-2]; and
         ``sky_diffuse_fallback_hours`` (int): hours where the isotropic sky
-        diffuse replaced the chosen model's.
+        diffuse replaced the chosen model's; ``..._with_diffuse``: those of
+        them with DHI > 0 (in the others the sky diffuse is 0 either way).
 
     References
     ----------
@@ -489,7 +490,9 @@ def plane_of_array(
     bad = ~np.isfinite(sky)
     if model == "perez":
         bad |= (~sun_up & (dhi > 0.0))[np.newaxis, :]
-    fallback_hours = int(bad.any(axis=0).sum())
+    replaced = bad.any(axis=0)
+    fallback_hours = int(replaced.sum())
+    fallback_with_diffuse = int((replaced & (dhi > 0.0)).sum())
     sky = np.where(bad, isotropic, sky)
     direct = np.where(np.isfinite(direct), direct, 0.0)
     total = direct + sky + ground
@@ -499,4 +502,5 @@ def plane_of_array(
         "poa_sky_diffuse": np.ascontiguousarray(sky.T),
         "poa_ground_diffuse": np.ascontiguousarray(ground.T),
         "sky_diffuse_fallback_hours": fallback_hours,
+        "sky_diffuse_fallback_hours_with_diffuse": fallback_with_diffuse,
     }
