@@ -46,6 +46,8 @@ Array = NDArray[np.float64]
 LINEARISATIONS = frozenset({"air", "surface"})
 #: h_e = 1/R_se of the ISO 6946 conventional R_se = 0.04 m2 K W-1.
 H_E_CONVENTIONAL = 25.0
+#: Smallest h_e accepted [W m-2 K-1]: below it the surface is taken to exchange no heat.
+H_E_MIN = 1e-6
 
 
 def _as_checked(name: str, value: ArrayLike, low: float = -np.inf, high: float = np.inf) -> Array:
@@ -258,7 +260,7 @@ def temp_sol_air(
     else:
         ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
         esf = e * sigma * (fs + fa + fg)
-        if np.any(hc + esf <= 0.0):
+        if np.any(hc + 4.0 * esf * 300.0**3 < H_E_MIN):  # h_e at a typical 300 K
             raise ConfigurationError(
                 "h_conv and emissivity x view factors are all zero for some element: "
                 "the surface exchanges no heat (h_e = 0)")
@@ -269,7 +271,7 @@ def temp_sol_air(
         hs, ha, hg = coefficients(t_surf)
     h_rad = hs + ha + hg
     h_e = hc + h_rad
-    if np.any(h_e <= 0.0):
+    if np.any(h_e < H_E_MIN):
         raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
     t_eq = (hc * ta + hs * tsky + ha * ta + hg * tg + ag) / h_e
     return {

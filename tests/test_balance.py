@@ -1,0 +1,210 @@
+"""The sol-air balance: T_eq, h_e, R_se, the massless adiabatic surface."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from numpy.testing import assert_allclose
+from scipy.optimize import brentq
+
+from solair import balance, longwave, sky
+from solair.convection import h_conv_iso6946
+from solair.errors import ConfigurationError
+
+HORIZONTAL = {"view_sky": 1.0, "view_air": 0.0, "view_ground": 0.0}
+K = 273.15
+
+
+def _brentq_surface(alpha_g, eps, h_c, ta_k, tsky_k, fs=1.0, fa=0.0, fg=0.0, tg_k=None,
+                    sigma=longwave.SIGMA):
+    """Root of the exact quartic balance, independently by scipy's bracketing solver [K]."""
+    tg_k = ta_k if tg_k is None else tg_k
+
+    def net(t):
+        return (alpha_g + h_c * (ta_k - t)
+                + eps * sigma * (fs * (tsky_k**4 - t**4) + fa * (ta_k**4 - t**4)
+                                 + fg * (tg_k**4 - t**4)))
+
+    return brentq(net, 1.0, 5000.0, xtol=1e-10, rtol=1e-14)
+
+
+# ASTM E1980-11 standard conditions: I = 1000 W m-2, T_a = 310 K, T_sky = 300 K, eps = 0.90;
+# temperatures computed from the standard's surface balance with its sigma = 5.66961e-8
+ASTM_CASES = [
+    (0.95, 5.0, 376.85), (0.95, 12.0, 355.61), (0.95, 30.0, 334.22),  # black reference
+    (0.20, 5.0, 322.40), (0.20, 12.0, 317.76), (0.20, 30.0, 313.93),  # white reference
+]
+
+
+@pytest.mark.parametrize(("alpha", "h_c", "t_expected"), ASTM_CASES)
+def test_astm_e1980_surface_temperatures(alpha, h_c, t_expected):
+    # ASTM E1980-11: the surface mode is the standard's steady-state surface temperature
+    out = balance.temp_sol_air(310.0 - K, 1000.0, alpha, 0.90, h_c, 300.0 - K, **HORIZONTAL,
+                               linearisation="surface", sigma=longwave.SIGMA_ASTM_E1980)
+    assert_allclose(out["temp_sol_air"] + K, t_expected, atol=0.1)
+    # and independently: scipy brentq on the same quartic
+    root = _brentq_surface(alpha * 1000.0, 0.90, h_c, 310.0, 300.0,
+                           sigma=longwave.SIGMA_ASTM_E1980)
+    assert_allclose(out["temp_sol_air"] + K, root, atol=1e-6)
+
+
+def test_iso6946_conventional_rse():
+    # ISO 6946:2017 Annex C: R_se = 1/(h_c + eps h_r0) ≈ 0.04 at v = 4 m/s, eps = 0.9, 0 °C
+    out = balance.temp_sol_air(0.0, 0.0, 0.5, 0.9, h_conv_iso6946(4.0), 0.0, **HORIZONTAL)
+    assert_allclose(out["r_se"], 0.04, atol=0.002)
+    assert_allclose(out["h_rad"], 0.9 * 4.6, atol=0.05)
+
+
+def test_conventional_mode_fixes_h_e():
+    # ISO 6946:2017 6.8: conventional R_se = 0.04, h_e = 25, convective part = the rest
+    for lin in ("air", "surface"):
+        out = balance.temp_sol_air(np.array([0.0, 25.0]), np.array([0.0, 700.0]), 0.7, 0.9,
+                                   999.0, np.array([-12.0, 10.0]), view_sky=0.5, view_air=0.0,
+                                   view_ground=0.5, linearisation=lin, conventional=True)
+        assert_allclose(out["r_se"], 0.04)
+        assert_allclose(out["h_e"], 25.0)
+        assert_allclose(out["h_conv"], 25.0 - out["h_rad"])
+    # surface linearisation: the coefficients are those at the solution itself
+    t = out["temp_sol_air"]
+    assert_allclose(out["h_rad_sky"], longwave.h_rad_secant(0.9, 0.5, [-12.0, 10.0], t))
+
+
+def test_ashrae_horizontal_longwave_correction():
+    # ASHRAE Handbook-Fundamentals, sol-air method (from memory): for a horizontal surface at
+    # h_o ≈ 17 W m-2 K-1 in summer, eps dR / h_o ≈ 3.9 K (7 °F) with eps = 1. Our summer clear
+    # sky: T_a = 30 °C, T_dp = 20 °C, Clark-Allen; h_c chosen so that h_e = 17
+    ta, td = 30.0, 20.0
+    tsky, src = sky.get_sky_temperature(ta, td, 101325.0, model="clark_allen")
+    assert src == 3
+    h_r = longwave.h_rad_secant(1.0, 1.0, tsky, ta)
+    out = balance.temp_sol_air(ta, 0.0, 0.9, 1.0, 17.0 - h_r, tsky, **HORIZONTAL)
+    assert_allclose(out["h_e"], 17.0)
+    correction = ta - out["temp_sol_air"]
+    assert correction == pytest.approx(3.9, abs=1.5)
+
+
+def test_surface_mode_converges_in_extremes():
+    # tiny emissivity with huge solar gain and no convection, and a black surface under a
+    # very cold sky: Newton must converge and agree with brentq
+    cases = [(1e4, 0.04, 0.0, 30.0, -10.0), (0.0, 1.0, 0.0, 20.0, -100.0),
+             (1200.0, 0.04, 0.5, 45.0, 20.0), (1000.0, 1.0, 200.0, -40.0, -70.0)]
+    for ag, eps, hc, ta, tsky in cases:
+        out = balance.temp_sol_air(ta, ag, 1.0, eps, hc, tsky, **HORIZONTAL,
+                                   linearisation="surface")
+        assert_allclose(out["temp_sol_air"] + K, _brentq_surface(ag, eps, hc, ta + K, tsky + K),
+                        atol=1e-6)
+
+
+def test_surface_mode_vectorised_year_by_surfaces():
+    # one call for a year x 17 orientations, no Python loop over elements
+    rng = np.random.default_rng(1)
+    n = 8760
+    ta = rng.uniform(-20, 40, (n, 1))
+    tsky = ta - rng.uniform(0, 25, (n, 1))
+    hc = rng.uniform(4, 30, (n, 1))
+    g = np.clip(rng.normal(300, 300, (n, 17)), 0, 1100)
+    tilt = np.r_[0.0, np.full(8, 45.0), np.full(8, 90.0)]
+    fs, fa, fg = longwave.view_factors(tilt, sky_air_split=True)
+    kw = {"view_sky": fs, "view_air": fa, "view_ground": fg}
+    out = balance.temp_sol_air(ta, g, 0.9, 0.9, hc, tsky, **kw, linearisation="surface")
+    assert out["temp_sol_air"].shape == (n, 17)
+    res = balance.surface_balance_residual(out["temp_sol_air"], ta, g, 0.9, 0.9, hc, tsky, **kw)
+    assert_allclose(res, 0.0, atol=1e-5)
+
+
+def test_surface_mode_zeroes_the_residual():
+    ta, g, tsky = np.array([[5.0], [30.0]]), np.array([[0.0], [900.0]]), np.array([[-15.0], [15.0]])
+    fs, fa, fg = longwave.view_factors(np.array([0.0, 45.0, 90.0]), sky_air_split=True)
+    kw = {"view_sky": fs, "view_air": fa, "view_ground": fg}
+    out = balance.temp_sol_air(ta, g, 0.8, 0.9, 8.0, tsky, linearisation="surface", **kw)
+    res = balance.surface_balance_residual(out["temp_sol_air"], ta, g, 0.8, 0.9, 8.0, tsky, **kw)
+    assert_allclose(res, 0.0, atol=1e-5)
+
+
+def test_errors():
+    with pytest.raises(ConfigurationError, match=r"linearisation 'exact' is not one of"):
+        balance.temp_sol_air(20.0, 0.0, 0.5, 0.9, 10.0, 5.0, **HORIZONTAL, linearisation="exact")
+    with pytest.raises(ConfigurationError,
+                       match=r"temp_air holds 1 value\(s\) that are not finite"):
+        balance.temp_sol_air(np.array([20.0, np.nan]), 0.0, 0.5, 0.9, 10.0, 5.0, **HORIZONTAL)
+    with pytest.raises(ConfigurationError, match=r"emissivity .* in \[0, 1\]"):
+        balance.temp_sol_air(20.0, 0.0, 0.5, 1.9, 10.0, 5.0, **HORIZONTAL)
+    with pytest.raises(ConfigurationError, match="no heat"):
+        balance.temp_sol_air(20.0, 100.0, 0.5, 0.0, 0.0, 5.0, **HORIZONTAL,
+                             linearisation="surface")
+
+
+# --- properties (hypothesis) -----------------------------------------------------------------
+
+temps = st.floats(-40.0, 45.0)
+fracs = st.floats(0.0, 1.0)
+tilts = st.floats(0.0, 180.0)
+lins = st.sampled_from(["air", "surface"])
+
+
+def _views(tilt, split=True):
+    fs, fa, fg = longwave.view_factors(tilt, sky_air_split=split)
+    return {"view_sky": fs, "view_air": fa, "view_ground": fg}
+
+
+@given(temps, st.floats(0.0, 1200.0), st.floats(0.01, 1.0), st.floats(0.0, 50.0), tilts, lins)
+def test_no_absorption_and_sky_at_air_gives_air(ta, g, eps, hc, tilt, lin):
+    # limit: alpha = 0 with T_sky = T_gnd = T_a leaves nothing to drive T_eq away from T_a
+    out = balance.temp_sol_air(ta, g, 0.0, eps, hc, ta, **_views(tilt), linearisation=lin)
+    assert_allclose(out["temp_sol_air"], ta, atol=1e-9)
+
+
+@given(temps, st.floats(0.0, 1200.0), fracs, st.floats(0.05, 1.0), st.floats(0.0, 30.0), tilts)
+def test_strong_wind_drives_teq_to_air(ta, g, alpha, eps, depression, tilt):
+    # limit: T_eq -> T_a as the wind speed grows without bound (h_c = 4 + 4v)
+    tsky = ta - depression
+    diffs = [abs(balance.temp_sol_air(ta, g, alpha, eps, h_conv_iso6946(v), tsky,
+                                      **_views(tilt))["temp_sol_air"] - ta)
+             for v in (1.0, 100.0, 1e5)]
+    assert diffs[0] + 1e-12 >= diffs[1] and diffs[1] + 1e-12 >= diffs[2]
+    assert diffs[2] < 1e-2
+
+
+@settings(max_examples=60)
+@given(temps, st.floats(0.0, 1200.0), st.floats(0.0, 0.9), st.floats(0.01, 0.1),
+       st.floats(0.05, 1.0), st.floats(1.0, 40.0), st.floats(0.0, 30.0), tilts, lins)
+def test_teq_rises_with_absorptance_and_irradiance(ta, g, alpha, d_alpha, eps, hc, dep, tilt,
+                                                   lin):
+    kw = {**_views(tilt), "linearisation": lin}
+    base = balance.temp_sol_air(ta, g, alpha, eps, hc, ta - dep, **kw)["temp_sol_air"]
+    more_alpha = balance.temp_sol_air(ta, g, alpha + d_alpha, eps, hc, ta - dep, **kw)
+    more_sun = balance.temp_sol_air(ta, g + 50.0, alpha + d_alpha, eps, hc, ta - dep, **kw)
+    assert more_alpha["temp_sol_air"] >= base - 1e-9
+    assert more_sun["temp_sol_air"] > more_alpha["temp_sol_air"]
+
+
+@given(temps, st.floats(0.05, 1.0), st.floats(0.0, 60.0), st.floats(0.5, 30.0), lins)
+def test_clear_night_horizontal_below_air(ta, eps, hc, dep, lin):
+    # a horizontal surface on a clear night (no sun, sky colder than air) sits below the air
+    out = balance.temp_sol_air(ta, 0.0, 0.9, eps, hc, ta - dep, **HORIZONTAL, linearisation=lin)
+    assert out["temp_sol_air"] < ta
+
+
+@given(temps, st.floats(0.0, 1200.0), fracs, fracs, st.floats(0.5, 60.0), st.floats(0.0, 40.0),
+       st.floats(-10.0, 10.0), tilts, st.booleans())
+def test_air_linearisation_reproduces_net_exchange_at_air(ta, g, alpha, eps, hc, dep, dground,
+                                                          tilt, split):
+    # identity of the secant linearisation about T_s = T_a:
+    # h_e (T_eq - T_a) = alpha G + convection + long-wave at T_s = T_a
+    kw = {**_views(tilt, split), "temp_ground": ta + dground}
+    out = balance.temp_sol_air(ta, g, alpha, eps, hc, ta - dep, **kw)
+    net = balance.surface_balance_residual(ta, ta, g, alpha, eps, hc, ta - dep, **kw)
+    assert_allclose(out["h_e"] * (out["temp_sol_air"] - ta), net, rtol=0, atol=1e-9)
+
+
+@settings(max_examples=60)
+@given(temps, st.floats(0.0, 1200.0), fracs, st.floats(0.02, 1.0), st.floats(0.0, 60.0),
+       st.floats(0.0, 40.0), tilts)
+def test_surface_mode_matches_brentq(ta, g, alpha, eps, hc, dep, tilt):
+    v = _views(tilt)
+    out = balance.temp_sol_air(ta, g, alpha, eps, hc, ta - dep, **v, linearisation="surface")
+    root = _brentq_surface(alpha * g, eps, hc, ta + K, ta - dep + K, float(v["view_sky"]),
+                           float(v["view_air"]), float(v["view_ground"]))
+    assert_allclose(out["temp_sol_air"] + K, root, atol=2e-6)
