@@ -18,7 +18,7 @@ import pandas as pd
 import xarray as xr
 from matplotlib import colors, dates
 from matplotlib.backends.backend_agg import FigureCanvasAgg
-from matplotlib.figure import Figure
+from matplotlib.figure import Figure, SubFigure
 
 from solair.errors import ConfigurationError
 from solair.plots import shaping
@@ -70,10 +70,18 @@ def _styled(func: Callable[..., Figure]) -> Callable[..., Figure]:
     return wrapper
 
 
-def _figure(height: float) -> Figure:
-    fig = Figure(figsize=(FIGURE_WIDTH, height), layout="constrained")
+CAUTION_TEXT = ("Engineering estimate; verify against local codes and licensed professional "
+                "practice.")
+
+
+def _figure(height: float) -> tuple[Figure, SubFigure]:
+    """A figure with a drawing panel and a footer line carrying the caution."""
+    fig = Figure(figsize=(FIGURE_WIDTH, height + 0.22), layout="constrained")
     FigureCanvasAgg(fig)
-    return fig
+    panel, footer = fig.subfigures(2, 1, height_ratios=[height, 0.22])
+    footer.text(0.99, 0.5, f"solair · {CAUTION_TEXT}", ha="right", va="center", fontsize=8,
+                color="0.4")
+    return fig, panel
 
 
 def unit_text(da: xr.DataArray, default: str = "") -> str:
@@ -231,8 +239,8 @@ def carpet_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
         norm = colors.Normalize(vmin=lo, vmax=hi)
         cmap = "inferno"
         cbar_label = variable_label(ds, variable)
-    fig = _figure(0.6 + 2.1 * len(names))
-    axes = fig.subplots(len(names), 1, squeeze=False, sharex=True)[:, 0]
+    fig, panel = _figure(0.6 + 2.1 * len(names))
+    axes = panel.subplots(len(names), 1, squeeze=False, sharex=True)[:, 0]
     image = None
     for ax, name, grid in zip(axes, names, grids):
         image = ax.imshow(grid.T, origin="lower", aspect="auto", cmap=cmap, norm=norm,
@@ -246,9 +254,9 @@ def carpet_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
                      + (f"; {optics}" if optics else ""), loc="left")
         _month_axis(ax)
     axes[-1].set_xlabel(f"Day of year ({_offset_text(ds)})")
-    fig.colorbar(image, ax=list(axes), label=cbar_label, shrink=0.95, pad=0.01)
+    panel.colorbar(image, ax=list(axes), label=cbar_label, shrink=0.95, pad=0.01)
     what = f"{base} − air temperature" if minus_air else base
-    fig.suptitle(f"{_site(ds)}: {what}, hour by hour", x=0.01, ha="left")
+    panel.suptitle(f"{_site(ds)}: {what}, hour by hour", x=0.01, ha="left")
     return fig
 
 
@@ -265,8 +273,8 @@ def duration_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     variable = _default_variable(ds, variable)
     names = select_surfaces(ds, surfaces)
     finish = select_finish(ds, finish)
-    fig = _figure(4.2)
-    ax = fig.subplots()
+    fig, panel = _figure(4.2)
+    ax = panel.subplots()
     for name, colour in zip(names, _colours(len(names))):
         x, y = shaping.duration_curve(_series(ds, variable, name, finish), percent=percent)
         ax.plot(x, y, color=colour, lw=1.3, label=name)
@@ -286,7 +294,7 @@ def duration_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     ax.set_ylabel(variable_label(ds, variable))
     ax.legend(ncols=1 if len(names) < 6 else 2, loc="upper right", title="surface")
     what = _SHORT_NAME.get(variable, variable).lower()
-    fig.suptitle(f"{_site(ds)}: duration curves of the {what}{_finish_suffix(finish)}",
+    panel.suptitle(f"{_site(ds)}: duration curves of the {what}{_finish_suffix(finish)}",
                  x=0.01, ha="left")
     return fig
 
@@ -302,8 +310,8 @@ def monthly_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     labels = shaping.local_labels(ds)
     ncols = 1 if len(names) == 1 else (2 if len(names) <= 4 else 3)
     nrows = int(np.ceil(len(names) / ncols))
-    fig = _figure(0.9 + (2.0 if ncols > 1 else 3.2) * nrows)
-    axes = fig.subplots(nrows, ncols, squeeze=False, sharex=True, sharey=True)
+    fig, panel = _figure(0.9 + (2.0 if ncols > 1 else 3.2) * nrows)
+    axes = panel.subplots(nrows, ncols, squeeze=False, sharex=True, sharey=True)
     air = None
     if "temp_air" in ds.data_vars and variable != "temp_air":
         air = shaping.monthly_statistics(_series(ds, "temp_air", None, None), labels,
@@ -332,9 +340,11 @@ def monthly_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
         if k % ncols == 0:
             ax.set_ylabel(variable_label(ds, variable))
     handles, texts = axes.flat[0].get_legend_handles_labels()
-    fig.legend(handles, texts, loc="outside lower center", ncols=4)
-    fig.suptitle(f"{_site(ds)}: monthly {_SHORT_NAME.get(variable, variable).lower()}"
-                 f"{_finish_suffix(finish)} (months in {_offset_text(ds)})", x=0.01, ha="left")
+    panel.legend(handles, texts, loc="outside lower center", ncols=4)
+    for ax in axes[-1]:
+        ax.set_xlabel("Month")
+    panel.suptitle(f"{_site(ds)}: monthly {_SHORT_NAME.get(variable, variable).lower()}"
+                 f"{_finish_suffix(finish)}", x=0.01, ha="left")
     return fig
 
 
@@ -367,8 +377,8 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
         all_surfaces = list(dict.fromkeys(surfaces))
     finishes = list(dict.fromkeys(metrics["finish"].astype(str)))
     units = units or {}
-    fig = _figure(0.9 + 2.1 * len(metric_names))
-    axes = fig.subplots(len(metric_names), 1, squeeze=False, sharex=True)[:, 0]
+    fig, panel = _figure(0.9 + 2.1 * len(metric_names))
+    axes = panel.subplots(len(metric_names), 1, squeeze=False, sharex=True)[:, 0]
     width = 0.8 / max(len(finishes), 1)
     x = np.arange(len(all_surfaces))
     table = metrics.assign(surface=metrics["surface"].astype(str),
@@ -382,9 +392,10 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
             bars = ax.bar(x - 0.4 + width * (j + 0.5), values, width=width * 0.92,
                           color=colour, label=fin)
             top = max(top, float(np.nanmax(np.abs(values))) if np.isfinite(values).any() else 0)
-            if n_bars <= 16:
+            if n_bars <= 16 and np.nanmax(np.abs(values)) > 0:
                 ax.bar_label(bars, fmt="%.0f", fontsize=8, padding=1)
         if top == 0.0:
+            ax.set_ylim(0.0, 1.0)
             ax.text(0.5, 0.5, "zero for every surface and finish", transform=ax.transAxes,
                     ha="center", va="center", color="0.3")
         label, unit = shaping.FINISH_METRICS.get(metric, (metric.replace("_", " "), ""))
@@ -403,9 +414,9 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
     axes[-1].set_xticklabels(all_surfaces, rotation=0 if len(all_surfaces) <= 9 else 45)
     axes[-1].set_xlabel("Surface")
     handles, texts = axes[0].get_legend_handles_labels()
-    fig.legend(handles, texts, loc="outside lower center", ncols=min(len(finishes), 4),
-               title="finish")
-    fig.suptitle(f"{site + ': ' if site else ''}finish comparison", x=0.01, ha="left")
+    panel.legend(handles, texts, loc="outside lower center", ncols=min(len(finishes), 4),
+               title="finish", title_fontsize=8)
+    panel.suptitle(f"{site + ': ' if site else ''}finish comparison", x=0.01, ha="left")
     return fig
 
 
@@ -422,8 +433,8 @@ def portfolio_figure(table: pd.DataFrame, metric: str, *, finish: str | None = N
         grid = grid[list(dict.fromkeys(surfaces))]
     values = grid.to_numpy(dtype=float)
     n_rows, n_cols = values.shape
-    fig = _figure(max(2.4, 1.3 + 0.38 * n_rows))
-    ax = fig.subplots()
+    fig, panel = _figure(max(2.4, 1.3 + 0.38 * n_rows))
+    ax = panel.subplots()
     image = ax.imshow(values, aspect="auto", cmap="YlOrRd", interpolation="nearest")
     ax.grid(False)
     ax.set_xticks(range(n_cols))
@@ -442,9 +453,9 @@ def portfolio_figure(table: pd.DataFrame, metric: str, *, finish: str | None = N
                 ax.text(j, i, f"{v:.{digits}f}", ha="center", va="center", fontsize=8,
                         color="white" if v > mid else "black")
     label = shaping.FINISH_METRICS.get(metric, (metric.replace("_", " "), ""))[0]
-    fig.colorbar(image, ax=ax, label=f"{label} [{unit}]" if unit else label, pad=0.01)
+    panel.colorbar(image, ax=ax, label=f"{label} [{unit}]" if unit else label, pad=0.01)
     chosen = finish if finish else (str(table["finish"].iloc[0]) if "finish" in table else "")
-    fig.suptitle(f"{title + ': ' if title else ''}{label} per climate and surface"
+    panel.suptitle(f"{title + ': ' if title else ''}{label} per climate and surface"
                  f"{_finish_suffix(chosen)}", x=0.01, ha="left")
     return fig
 
@@ -476,11 +487,11 @@ def sky_spread_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
         week = min(int((at.day_of_year - 1) // 7) + 1, 52)
     mask = shaping.week_mask(labels, week=week, start=start)
     t = labels[mask] - pd.Timedelta(minutes=30)
-    fig = _figure(5.6)
-    top, bottom = fig.subplots(2, 1, sharex=True)
+    fig, panel = _figure(5.6)
+    top, bottom = panel.subplots(2, 1, sharex=True)
     top.fill_between(t, _series(ds, "temp_sky_min", None, None)[mask],
                      _series(ds, "temp_sky_max", None, None)[mask], color="tab:blue", alpha=0.25,
-                     lw=0, label="sky, range over the clear-sky models")
+                     lw=0, label="sky, range over the\nsky correlations")
     if "temp_sky" in ds.data_vars:
         top.plot(t, _series(ds, "temp_sky", None, None)[mask], color="tab:blue", lw=1.2,
                  label="sky, model used")
@@ -509,6 +520,6 @@ def sky_spread_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     bottom.set_xlabel(_offset_text(ds)[0].upper() + _offset_text(ds)[1:])
     first = t[0]
     which = f"week {week}" if start is None else f"7 days from {first:%d %b}"
-    fig.suptitle(f"{_site(ds)}: spread over the sky-temperature models, {which}"
+    panel.suptitle(f"{_site(ds)}: spread over the sky-temperature models, {which}"
                  f"{_finish_suffix(finish)}", x=0.01, ha="left")
     return fig
