@@ -171,7 +171,9 @@ def h_conv_yazdanian_klems(
     exponents, is also quoted in the literature, about 27 % lower in the forced
     term. The fit is from field measurements on a smooth (glazed) surface of a
     low-rise test facility; the paper gives no roughness dependence, so
-    ``roughness`` is not used by this model. Expect ±30-50 % between models.
+    ``roughness`` is not used by this model. The leeward fit exceeds the
+    windward one below V ≈ 1.4 m/s (a property of the fits). Expect ±30-50 %
+    between models.
 
     Parameters
     ----------
