@@ -18,6 +18,7 @@ naive UTC, each label the **end** of the hour it covers; the global attribute
 from __future__ import annotations
 
 import os
+import warnings
 from collections.abc import Iterable
 from importlib.metadata import version as _pkg_version
 
@@ -172,7 +173,9 @@ def _clear_sky_ghi(geom: sun.HourlySunGeometry, site, pressure: float) -> np.nda
        151-157. :doi:`10.1016/S0038-092X(02)00045-2`
     """
     times = pd.DatetimeIndex(geom.time).tz_localize("UTC")
-    linke = pvlib.clearsky.lookup_linke_turbidity(times, site.latitude, site.longitude)
+    with warnings.catch_warnings():  # pvlib 0.16 uses a pandas attribute deprecated in pandas 3
+        warnings.filterwarnings("ignore", message=".*dayofyear is deprecated")
+        linke = pvlib.clearsky.lookup_linke_turbidity(times, site.latitude, site.longitude)
     with np.errstate(invalid="ignore"):
         am_rel = pvlib.atmosphere.get_relative_airmass(geom.apparent_zenith)
     am_abs = pvlib.atmosphere.get_absolute_airmass(am_rel, pressure)
