@@ -31,6 +31,7 @@ __all__ = [
     "vapor_pressure",
     "dew_point",
     "relative_humidity",
+    "PHASES",
 ]
 
 #: triple point of water [°C]; ice below or at it, liquid water above
@@ -144,17 +145,33 @@ def vapor_pressure(temp_dew: ArrayLike) -> np.ndarray:
     return saturation_vapor_pressure(temp_dew)
 
 
-def relative_humidity(temp_air: ArrayLike, temp_dew: ArrayLike) -> np.ndarray:
+#: saturation phases: "auto" = ice at or below 0.01 °C, water above (ASHRAE, psychrolib);
+#: "water" = liquid water at every temperature (the WMO convention for meteorological RH
+#: and dew point, used when weather fields are derived)
+PHASES = frozenset({"auto", "water"})
+
+
+def _ln_pws_phase(temp_k, phase: str):
+    if phase not in PHASES:
+        from solair.errors import ConfigurationError
+
+        raise ConfigurationError(f"phase {phase!r} is not one of {sorted(PHASES)}")
+    return _ln_pws(temp_k) if phase == "auto" else _ln_pws_water(temp_k)
+
+
+def relative_humidity(temp_air: ArrayLike, temp_dew: ArrayLike, *,
+                      phase: str = "auto") -> np.ndarray:
     """Relative humidity [%] from air temperature and dew point [°C].
 
     RH = 100 · p_ws(t_d) / p_ws(t) (ASHRAE HoF 2017 ch. 1, eq. 24 with eqs. 5-6).
+    ``phase="water"`` takes saturation over liquid water at all temperatures.
     """
     t = np.asarray(temp_air, dtype=float)
     td = np.asarray(temp_dew, dtype=float)
-    return 100.0 * np.exp(_ln_pws(td + _K) - _ln_pws(t + _K))
+    return 100.0 * np.exp(_ln_pws_phase(td + _K, phase) - _ln_pws_phase(t + _K, phase))
 
 
-def _dew_point_from_vapor_pressure(p_w: np.ndarray) -> np.ndarray:
+def _dew_point_from_vapor_pressure(p_w: np.ndarray, phase: str = "auto") -> np.ndarray:
     """Invert p_ws(t_d) = p_w by Newton's method on ln p_ws [°C]."""
     ln_p = np.log(np.clip(p_w, saturation_vapor_pressure(T_MIN), None))
     # start: Magnus-type inversion over water, 6.112 hPa at 0 °C (common practice)
@@ -162,7 +179,7 @@ def _dew_point_from_vapor_pressure(p_w: np.ndarray) -> np.ndarray:
     t_k = 243.12 * g / (17.62 - g) + _K
     t_k = np.clip(t_k, T_MIN + _K, T_MAX + _K)
     for _ in range(50):
-        ice = t_k <= TRIPLE_POINT_WATER + _K
+        ice = (t_k <= TRIPLE_POINT_WATER + _K) & (phase == "auto")
         f = np.where(ice, _ln_pws_ice(t_k), _ln_pws_water(t_k)) - ln_p
         df = np.where(ice, _dln_pws_ice(t_k), _dln_pws_water(t_k))
         step = f / df
@@ -172,7 +189,8 @@ def _dew_point_from_vapor_pressure(p_w: np.ndarray) -> np.ndarray:
     return t_k - _K
 
 
-def dew_point(temp_air: ArrayLike, relative_humidity: ArrayLike) -> np.ndarray:
+def dew_point(temp_air: ArrayLike, relative_humidity: ArrayLike, *,
+              phase: str = "auto") -> np.ndarray:
     """Dew point [°C] (frost point below 0.01 °C) from air temperature and RH.
 
     Solves p_ws(t_d) = RH/100 · p_ws(t) for t_d by Newton iteration on
@@ -187,6 +205,10 @@ def dew_point(temp_air: ArrayLike, relative_humidity: ArrayLike) -> np.ndarray:
         Dry-bulb temperature [°C].
     relative_humidity : array_like
         Relative humidity [%].
+    phase : {"auto", "water"}
+        "auto": saturation over ice at or below 0.01 °C (a frost point), as ASHRAE
+        and psychrolib; "water": over liquid water throughout (WMO convention for
+        meteorological humidity).
 
     Returns
     -------
@@ -199,5 +221,5 @@ def dew_point(temp_air: ArrayLike, relative_humidity: ArrayLike) -> np.ndarray:
     """
     t = np.asarray(temp_air, dtype=float)
     rh = np.asarray(relative_humidity, dtype=float)
-    p_w = rh / 100.0 * saturation_vapor_pressure(t)
-    return _dew_point_from_vapor_pressure(np.asarray(p_w, dtype=float))
+    p_w = rh / 100.0 * np.exp(_ln_pws_phase(t + _K, phase))
+    return _dew_point_from_vapor_pressure(np.asarray(p_w, dtype=float), phase)

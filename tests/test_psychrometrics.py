@@ -95,3 +95,23 @@ def test_dew_point_inverts_relative_humidity(t, depression):
 def test_dry_air_holds_at_validity_limit():
     # RH 0 has no finite dew point: it is held at -100 °C, the bottom of Hyland–Wexler's range
     assert_allclose(ps.dew_point(20.0, 0.0), -100.0)
+
+
+def test_water_phase_for_meteorological_humidity():
+    """phase="water": saturation over liquid water (ASHRAE eq. 6) at every temperature."""
+    t = np.array([-30.0, -10.0, 0.0, 10.0])
+    td = t - 5.0
+    expected = 100.0 * ps.saturation_vapor_pressure_water(td) / \
+        ps.saturation_vapor_pressure_water(t)
+    assert_allclose(ps.relative_humidity(t, td, phase="water"), expected, rtol=1e-12)
+    rh = ps.relative_humidity(t, td, phase="water")
+    assert_allclose(ps.dew_point(t, rh, phase="water"), td, atol=1e-6)
+    # above the triple point both phases coincide
+    assert_allclose(ps.dew_point(25.0, 60.0, phase="water"), ps.dew_point(25.0, 60.0))
+
+
+def test_unknown_phase_is_configuration_error():
+    from solair.errors import ConfigurationError
+
+    with pytest.raises(ConfigurationError, match=r"phase 'steam' is not one of"):
+        ps.relative_humidity(20.0, 10.0, phase="steam")

@@ -152,20 +152,16 @@ def _to_number(values: pd.Series, column: str, lines: np.ndarray, name: str,
     return np.array(num.to_numpy(dtype=float), copy=True)
 
 
-def _numeric_fields(parts: list[str], check, line: int, name: str) -> None:
-    """Each (index, canonical name, label) field of ``parts`` must be a number.
+def _check_nan_text(values: np.ndarray, rows: list[list[str]], k: int, col: str, label: str,
+                    line_no: np.ndarray, name: str) -> None:
+    """Where pandas gave NaN, the raw field must have been a number.
 
-    Checked on the raw text because pandas silently reads "NA", "n/a", "null" or an
-    empty field as NaN, which would then pass for a gap.
+    pandas silently reads "NA", "n/a", "null", "nan" or an empty field as NaN, which
+    would then pass for a gap; no weather format writes its missing values so.
     """
-    for k, col, label in check:
-        t = parts[k].strip()
-        try:
-            float(t)
-        except ValueError:
-            raise _fail(name, f"{col} ({label}) = {t!r} is not a number", line) from None
-        if t.lower() in ("nan", "inf", "-inf", "+inf", "infinity", "-infinity"):
-            raise _fail(name, f"{col} ({label}) = {t!r} is not a number", line)
+    for i in np.flatnonzero(np.isnan(values)):
+        t = rows[i][k].strip()
+        raise _fail(name, f"{col} ({label}) = {t!r} is not a number", int(line_no[i]))
 
 
 def _int_field(text: str, what: str, line: int, name: str) -> int:
@@ -206,9 +202,6 @@ _EPW_FIELDS = {
 }
 
 
-_EPW_CHECK = [(fno - 1, col, f"field {fno}") for col, (_, fno, _) in _EPW_FIELDS.items()]
-
-
 def _parse_epw(text: str, name: str) -> RawTable:
     from pvlib.iotools import read_epw
 
@@ -230,6 +223,7 @@ def _parse_epw(text: str, name: str) -> RawTable:
         "altitude": _header_float(loc[9], "elevation", name),
     }
     body = _data_lines(lines, 8, name)
+    rows: list[list[str]] = []
     month = np.empty(len(body), dtype=int)
     day = np.empty(len(body), dtype=int)
     hour = np.empty(len(body), dtype=int)
@@ -238,7 +232,7 @@ def _parse_epw(text: str, name: str) -> RawTable:
         if len(parts) != _EPW_NFIELDS:
             raise _fail(name, f"{len(parts)} comma-separated fields, expected {_EPW_NFIELDS}",
                         i + 9)
-        _numeric_fields(parts, _EPW_CHECK, i + 9, name)
+        rows.append(parts)
         month[i] = _int_field(parts[1], "month (field 2)", i + 9, name)
         day[i] = _int_field(parts[2], "day (field 3)", i + 9, name)
         hour[i] = _int_field(parts[3], "hour (field 4)", i + 9, name)
@@ -255,6 +249,7 @@ def _parse_epw(text: str, name: str) -> RawTable:
     out = {}
     for col, (src, fno, code) in _EPW_FIELDS.items():
         v = _to_number(df[src], f"field {fno}", line_no, name, col)
+        _check_nan_text(v, rows, fno - 1, col, f"field {fno}", line_no, name)
         v[v >= code] = np.nan
         out[col] = v
     data = pd.DataFrame(out)
@@ -311,9 +306,8 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
     for col in needed:
         if col not in columns:
             raise _fail(name, f"TMY3 column header lacks {col!r}", 2)
-    check = [(columns.index(label), col, f"column {label!r}")
-             for col, label in _TMY3_LABELS.items() if label in columns]
     body = _data_lines(lines, 2, name)
+    rows: list[list[str]] = []
     month = np.empty(len(body), dtype=int)
     day = np.empty(len(body), dtype=int)
     hour = np.empty(len(body), dtype=int)
@@ -322,7 +316,7 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
         if len(parts) != ncol:
             raise _fail(name, f"{len(parts)} comma-separated fields, expected {ncol} as in "
                         "the column header on line 2", i + 3)
-        _numeric_fields(parts, check, i + 3, name)
+        rows.append(parts)
         d = _TMY3_DATE.match(parts[0].strip())
         t = _TMY3_TIME.match(parts[1].strip())
         if d is None:
@@ -344,6 +338,9 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
             continue
         label = _TMY3_LABELS.get(col, src)
         v = _to_number(df[src].reset_index(drop=True), f"column {label!r}", line_no, name, col)
+        if label in columns:
+            _check_nan_text(v, rows, columns.index(label), col, f"column {label!r}", line_no,
+                            name)
         v[v <= _TMY3_MISSING] = np.nan
         if flag in df.columns and col in OPTIONAL:
             v[df[flag].astype(str).str.strip().to_numpy() == "?"] = np.nan

@@ -12,7 +12,9 @@ naming the file, the line where there is one, the field and what is wrong):
 4. short gaps (up to :data:`MAX_GAP_HOURS`) filled by linear interpolation in time,
    irradiance kept non-negative, counted per field;
 5. derivations, with a :class:`WeatherWarning`: dew point from RH (or RH from dew
-   point), pressure from the site altitude (:func:`pvlib.atmosphere.alt2pres`);
+   point), over liquid water at all temperatures as meteorological humidity is
+   reported (WMO convention), and pressure from the site altitude
+   (:func:`pvlib.atmosphere.alt2pres`);
 6. what is still missing in a required field is a gap longer than the limit: error
    naming the field and the time range;
 7. the timing of the irradiance is compared with the sun's: a file whose rows are
@@ -186,18 +188,21 @@ def extraterrestrial_horizontal(index: pd.DatetimeIndex, latitude: float, longit
     """
     from pvlib import irradiance, solarposition
 
-    e0n = np.asarray(irradiance.get_extra_radiation(index.day_of_year.to_numpy()), dtype=float)
+    doy = index.day_of_year.to_numpy()
+    e0n = np.asarray(irradiance.get_extra_radiation(doy), dtype=float)
+    decl = solarposition.declination_spencer71(doy)
+    eot = solarposition.equation_of_time_spencer71(doy)  # [min]
+    # hours since 00:00 UTC of the label, then apparent solar time (vectorised hour angle)
+    utc = index.tz_convert("UTC")
+    utc_hours = utc.hour.to_numpy() + utc.minute.to_numpy() / 60.0
+    lat = np.radians(latitude)
     cos_sum = np.zeros(len(index))
     cos_max = np.full(len(index), -1.0)
     fractions = np.linspace(0.0, 1.0, substeps + 1)  # instants from the hour start to its end
     for k, f in enumerate(fractions):
-        t = index - pd.to_timedelta(1.0 - f, unit="h")
-        doy = t.day_of_year.to_numpy()
-        decl = solarposition.declination_spencer71(doy)
-        eot = solarposition.equation_of_time_spencer71(doy)
-        ha = solarposition.hour_angle(t, longitude, eot)
-        cz = np.cos(solarposition.solar_zenith_analytical(np.radians(latitude),
-                                                          np.radians(ha), decl))
+        solar = utc_hours - (1.0 - f) + longitude / 15.0 + eot / 60.0
+        ha = np.radians(15.0 * (solar - 12.0))
+        cz = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(ha)
         cos_max = np.maximum(cos_max, cz)
         w = 0.5 if k in (0, substeps) else 1.0  # trapezoidal rule over the hour
         cos_sum += w * np.clip(cz, 0.0, None)
@@ -317,13 +322,14 @@ def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str]) ->
     need = np.isnan(td) & ~np.isnan(rh) & ~np.isnan(t)
     if need.any():
         td = td.copy()
-        td[need] = np.minimum(ps.dew_point(t[need], np.clip(rh[need], 0.0, 100.0)), t[need])
+        dew = ps.dew_point(t[need], np.clip(rh[need], 0.0, 100.0), phase="water")
+        td[need] = np.minimum(dew, t[need])
         data["temp_dew"] = td
         derived.append(f"temp_dew from relative_humidity and temp_air in {int(need.sum())} hours")
     need = np.isnan(rh) & ~np.isnan(td) & ~np.isnan(t)
     if need.any():
         rh = rh.copy()
-        rh[need] = ps.relative_humidity(t[need], td[need])
+        rh[need] = ps.relative_humidity(t[need], td[need], phase="water")
         data["relative_humidity"] = rh
         derived.append(f"relative_humidity from temp_dew and temp_air in {int(need.sum())} hours")
     p = data["pressure"].to_numpy()
