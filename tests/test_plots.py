@@ -2,15 +2,17 @@
 
 The shaping checks use hand-made inputs whose answer is known by construction
 (an hour counter, constant months, a linear ramp): they test the placement and
-statistics, not the physics. Rendering from real outputs (Greensboro TMY3) is in
-``tests/test_plots_real.py``.
+statistics, not the physics. Rendering from real outputs (Greensboro TMY3) is at the end.
 """
 
 from __future__ import annotations
 
+import functools
 import struct
 import subprocess
 import sys
+import tempfile
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -315,7 +317,7 @@ def test_library_draws_without_pyplot():
             "assert png[:4] == b'\\x89PNG'\n"
             "assert 'matplotlib.pyplot' not in sys.modules, 'pyplot imported'\n")
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          cwd=str(__import__("pathlib").Path(__file__).parents[1]))
+                          cwd=str(Path(__file__).parents[1]))
     assert proc.returncode == 0, proc.stderr
 
 
@@ -414,3 +416,73 @@ def test_cli_plot_unreadable_file(tmp_path):
                                    str(tmp_path / "f.png")])
     assert res.exit_code == 2 and "cannot be read" in res.output
     assert len(res.output.strip().splitlines()) == 1
+
+
+# --------------------------------------------------------------------------- real outputs
+# Greensboro NC TMY3 (NREL, shipped with pvlib) through solair.compute, written with
+# solair.output.write_result and read back: every plot kind must draw from it.
+
+@functools.lru_cache(maxsize=1)
+def greensboro_run_file() -> Path:
+    """Compute once per test process: roof + three facades, with the sky-model spread."""
+    import pvlib
+
+    import solair
+    from solair.output import write_result
+    from solair.surfaces import Surface
+
+    weather = solair.read_weather(Path(pvlib.__path__[0]) / "data" / "723170TYA.CSV")
+    surfaces = [Surface("roof", 0.0, 180.0, 0.9, 0.9), Surface("S", 90.0, 180.0),
+                Surface("N", 90.0, 0.0), Surface("W", 90.0, 270.0)]
+    ds = solair.compute(weather, surfaces, sky_spread=True)
+    folder = Path(tempfile.mkdtemp(prefix="solair-plots-"))
+    return write_result(ds, folder / "greensboro_run.nc")
+
+
+@pytest.fixture(scope="module")
+def greensboro_run():
+    return plots.load_result(greensboro_run_file())
+
+
+REAL_RUN_KINDS = [("carpet", {}), ("carpet", {"minus_air": True, "surfaces": ["roof", "S"]}),
+                  ("duration", {}), ("monthly", {}), ("sky-spread", {"surfaces": ["roof", "S"]}),
+                  ("sky-spread", {"start": "07-15"})]
+
+
+@pytest.mark.parametrize("kind, opts", REAL_RUN_KINDS)
+def test_each_kind_renders_from_the_greensboro_run(greensboro_run, kind, opts):
+    assert plots.detect_result_type(greensboro_run) == "run"
+    data = plots.figure_png(plots.draw(greensboro_run, kind, **opts), dpi=72)
+    width, height = png_size(data)
+    assert width == 540 and 150 < height < 1200
+
+
+def test_greensboro_carpet_grid_is_full_and_in_local_time(greensboro_run):
+    """A full TMY3 year fills 365 x 24 cells; the sun is up around local noon, not 5 h off."""
+    labels = shaping.local_labels(greensboro_run)
+    assert labels[0] == pd.Timestamp("2001-01-01 01:00")  # TMY3 hour 1 of 1 January, local
+    poa = greensboro_run["poa_global"].sel(surface="roof").values
+    grid = shaping.carpet_grid(poa, labels)
+    assert grid.shape == (365, 24) and not np.isnan(grid).any()
+    mean_by_hour = grid.mean(axis=0)
+    assert int(np.argmax(mean_by_hour)) in (11, 12)  # Greensboro 79.95 W, zone meridian 75 W
+    assert_allclose(mean_by_hour[[0, 1, 2, 3, 22, 23]], 0.0, atol=1e-9)
+
+
+def test_greensboro_duration_and_monthly_agree_with_the_data(greensboro_run):
+    values = greensboro_run["temp_sol_air"].sel(surface="roof").values
+    hours, ordered = shaping.duration_curve(values)
+    assert hours[-1] == 8760 and ordered[0] == values.max() and ordered[-1] == values.min()
+    stats = shaping.monthly_statistics(values, shaping.local_labels(greensboro_run))
+    assert stats["hours"].sum() == 8760
+    assert_allclose((stats["mean"] * stats["hours"]).sum() / 8760, values.mean(), rtol=1e-12)
+    assert stats.loc[7, "mean"] > stats.loc[1, "mean"] + 15  # NC summer vs winter
+
+
+def test_cli_plot_from_a_real_run(tmp_path):
+    out = tmp_path / "sky.png"
+    res = CliRunner().invoke(cli, ["plot", str(greensboro_run_file()), "--kind", "sky-spread",
+                                   "--week", "28", "--surface", "roof", "--dpi", "60",
+                                   "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    assert png_size(out.read_bytes())[0] == 450

@@ -1,12 +1,13 @@
 """HTML report: every section, embedded images that decode, nothing outside the page.
 
 Built from the hand-made results of ``tests/test_plots.py``; the report of real
-outputs (Greensboro TMY3) is checked in ``tests/test_plots_real.py``.
+outputs (Greensboro TMY3) is checked at the end.
 """
 
 from __future__ import annotations
 
 import base64
+import html
 import re
 
 import numpy as np
@@ -14,11 +15,12 @@ import pandas as pd
 import pytest
 from click.testing import CliRunner
 from numpy.testing import assert_allclose
-from test_plots import PNG_SIGNATURE, hand_made_run, png_size
+from test_plots import PNG_SIGNATURE, greensboro_run_file, hand_made_run, png_size
 
 from solair import report
 from solair.cli import cli
 from solair.errors import ConfigurationError
+from solair.plots import load_result
 
 
 def assert_self_contained(text: str) -> None:
@@ -141,3 +143,40 @@ def test_cli_report(results, tmp_path):
     assert "summary.csv" in text and len(embedded_pngs(text)) == 5
     bad = CliRunner().invoke(cli, ["report", str(tmp_path / "x.nc"), "-o", str(out)])
     assert bad.exit_code == 2 and len(bad.output.strip().splitlines()) == 1
+
+
+# --------------------------------------------------------------------------- real outputs
+
+@pytest.fixture(scope="module")
+def greensboro_page(tmp_path_factory) -> str:
+    out = tmp_path_factory.mktemp("report") / "greensboro.html"
+    report.write_report([greensboro_run_file()], out, dpi=60)
+    return out.read_text(encoding="utf-8")
+
+
+def test_greensboro_report_sections_images_and_sources(greensboro_page):
+    page = greensboro_page
+    for key in report.SECTIONS:
+        assert f'<section id="{key}">' in page
+    images = embedded_pngs(page)
+    assert len(images) == 4  # duration, monthly, carpet, sky-spread
+    assert all(png_size(data)[0] == 450 for data in images)
+    assert_self_contained(page)
+    assert "GREENSBORO PIEDMONT TRIAD INT, NC" in page
+    # the models recorded in the result's attributes get their published source
+    for name in ("perez", "iso6946", "sky_cover_clark_allen"):
+        assert html.escape(report.MODEL_SOURCES[name]) in page
+
+
+def test_design_values_agree_with_solair_output(greensboro_page):
+    """Two implementations of the annual 1 %/99 % levels give the same numbers."""
+    from solair.output import design_values
+
+    ds = load_result(greensboro_run_file())
+    mine = report.design_values_table(ds)
+    theirs = design_values(ds)
+    for surface in ds["surface"].values:
+        assert_allclose(mine.loc[surface, "exceeded 1 % of hours"],
+                        theirs.loc[surface, "temp_sol_air_p99 (°C)"], atol=1e-9)
+        assert_allclose(mine.loc[surface, "exceeded 99 % of hours"],
+                        theirs.loc[surface, "temp_sol_air_p01 (°C)"], atol=1e-9)
