@@ -36,7 +36,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from solair.errors import ConfigurationError
-from solair.longwave import KELVIN, SIGMA, h_rad_secant
+from solair.longwave import KELVIN, SIGMA
 
 __all__ = ["LINEARISATIONS", "H_E_CONVENTIONAL", "temp_sol_air", "surface_balance_residual"]
 
@@ -52,6 +52,11 @@ H_E_MIN = 1e-6
 
 def _as_checked(name: str, value: ArrayLike, low: float = -np.inf, high: float = np.inf) -> Array:
     arr = np.asarray(value, dtype=float)
+    if arr.size == 0:
+        return arr
+    lo, hi = np.min(arr), np.max(arr)  # NaN propagates: one pass each, no temporaries
+    if np.isfinite(lo) and np.isfinite(hi) and lo >= low and hi <= high:
+        return arr
     bad = ~np.isfinite(arr) | (arr < low) | (arr > high)
     if np.any(bad):
         bounded = not (np.isinf(low) and np.isinf(high))
@@ -119,15 +124,24 @@ def surface_balance_residual(
 def _newton_surface(q0, hc, esf, t0, tol, max_iter):
     """Solve q0 - hc T - esf T^4 = 0 for T [K] by vectorised Newton (global for T > 0)."""
     t = np.maximum(t0, 1.0)
+    esf4 = 4.0 * esf
     for _ in range(max_iter):
-        t3 = t**3
-        step = (q0 - hc * t - esf * t3 * t) / (hc + 4.0 * esf * t3)
-        t = t + step
-        if np.max(np.abs(step), initial=0.0) <= tol:
+        t3 = t * t
+        t3 *= t
+        den = esf4 * t3
+        den += hc
+        t3 *= esf
+        t3 *= t  # esf T^4
+        step = q0 - t3
+        step -= hc * t
+        step /= den
+        t += step
+        largest = max(np.max(step), -np.min(step))
+        if largest <= tol:
             return t
     raise ConfigurationError(
         f"surface balance did not converge to {tol:g} K in {max_iter} Newton steps "
-        f"(largest last step {np.max(np.abs(step)):.3g} K); check the inputs' magnitudes"
+        f"(largest last step {largest:.3g} K); check the inputs' magnitudes"
     )
 
 
@@ -224,31 +238,35 @@ def temp_sol_air(
         temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
         view_sky, view_air, view_ground)
     shape = np.broadcast_shapes(*(x.shape for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)))
-    ta, g, a, e, hc, tsky, tg, fs, fa, fg = (
-        np.broadcast_to(x, shape) for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg))
+    # Work at the inputs' own shapes and let numpy broadcast: the temperature factors of the
+    # coefficients depend on time only, the optical factors on surface (and finish) only.
+    ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
     ag = a * g
+    efs, efa, efg = e * fs, e * fa, e * fg
+    d_sky, d_gnd = tsky - ta, tg - ta
 
-    def coefficients(t_ref):
-        return (h_rad_secant(e, fs, tsky, t_ref, sigma=sigma),
-                h_rad_secant(e, fa, ta, t_ref, sigma=sigma),
-                h_rad_secant(e, fg, tg, t_ref, sigma=sigma))
+    def coefficients(t_ref_k):
+        """Secant h_r,x about T_ref [K] (the algebra of longwave.h_rad_secant)."""
+        t2 = t_ref_k * t_ref_k
+        return tuple(ef * (sigma * (tx * tx + t2) * (tx + t_ref_k))
+                     for ef, tx in ((efs, tsky_k), (efa, ta_k), (efg, tg_k)))
 
     if conventional:
-        t_ref = ta
-        for _ in range(max_iter if linearisation == "surface" else 1):
-            hs, ha, hg = coefficients(t_ref)
-            t_new = ta + (ag + hs * (tsky - ta) + hg * (tg - ta)) / H_E_CONVENTIONAL
-            step = np.max(np.abs(t_new - t_ref), initial=0.0)
-            t_ref = t_new
+        # h_e fixed: T = T_a + (alpha G + h_sky (T_sky - T_a) + h_gnd (T_gnd - T_a)) / 25
+        t_ref_k = ta_k
+        for _ in range(max_iter):
+            hs, ha, hg = coefficients(t_ref_k)
+            if linearisation == "air":
+                break
+            t_new_k = ta_k + (ag + hs * d_sky + hg * d_gnd) / H_E_CONVENTIONAL
+            step = np.max(np.abs(t_new_k - t_ref_k), initial=0.0)
+            t_ref_k = t_new_k
             if step <= tol:
+                hs, ha, hg = coefficients(t_ref_k)
                 break
         else:
-            if linearisation == "surface":
-                raise ConfigurationError(
-                    f"conventional surface balance did not converge to {tol:g} K in "
-                    f"{max_iter} steps")
-        if linearisation == "surface":
-            hs, ha, hg = coefficients(t_ref)
+            raise ConfigurationError(
+                f"conventional surface balance did not converge to {tol:g} K in {max_iter} steps")
         h_rad = hs + ha + hg
         if np.any(h_rad >= H_E_CONVENTIONAL):
             raise ConfigurationError(
@@ -256,31 +274,28 @@ def temp_sol_air(
                 f"for convection within h_e = {H_E_CONVENTIONAL:g}")
         hc = H_E_CONVENTIONAL - h_rad
     elif linearisation == "air":
-        hs, ha, hg = coefficients(ta)
+        hs, ha, hg = coefficients(ta_k)
     else:
-        ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
-        esf = e * sigma * (fs + fa + fg)
+        esf = sigma * (efs + efa + efg)
         if np.any(hc + 4.0 * esf * 300.0**3 < H_E_MIN):  # h_e at a typical 300 K
             raise ConfigurationError(
                 "h_conv and emissivity x view factors are all zero for some element: "
                 "the surface exchanges no heat (h_e = 0)")
-        q0 = ag + hc * ta_k + e * sigma * (fs * tsky_k**4 + fa * ta_k**4 + fg * tg_k**4)
-        hs0, ha0, hg0 = coefficients(ta)
-        t0 = (hc * ta_k + hs0 * tsky_k + ha0 * ta_k + hg0 * tg_k + ag) / (hc + hs0 + ha0 + hg0)
-        t_surf = _newton_surface(q0, hc, esf, t0, tol, max_iter) - KELVIN
-        hs, ha, hg = coefficients(t_surf)
-    h_rad = hs + ha + hg
-    h_e = hc + h_rad
-    if np.any(h_e < H_E_MIN):
+        q0 = ag + hc * ta_k + sigma * (efs * tsky_k**4 + efa * ta_k**4 + efg * tg_k**4)
+        hs, ha, hg = coefficients(ta_k)
+        t0 = ta_k + (ag + hs * d_sky + hg * d_gnd) / (hc + hs + ha + hg)
+        hs, ha, hg = coefficients(_newton_surface(q0, hc, esf, t0, tol, max_iter))
+    h_rad = hs + ha
+    h_rad += hg
+    h_e = h_rad + hc
+    if np.min(h_e) < H_E_MIN:
         raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
-    t_eq = (hc * ta + hs * tsky + ha * ta + hg * tg + ag) / h_e
-    return {
-        "temp_sol_air": t_eq,
-        "h_rad": h_rad,
-        "h_rad_sky": hs,
-        "h_rad_air": ha,
-        "h_rad_ground": hg,
-        "h_e": h_e,
-        "h_conv": np.array(hc, dtype=float),
-        "r_se": 1.0 / h_e,
-    }
+    # T_eq = (h_c T_a + sum h_x T_x + alpha G) / h_e, written relative to T_a
+    t_eq = hs * d_sky
+    t_eq += hg * d_gnd
+    t_eq += ag
+    t_eq /= h_e
+    t_eq += ta
+    out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_rad_sky": hs, "h_rad_air": ha,
+           "h_rad_ground": hg, "h_e": h_e, "h_conv": hc, "r_se": 1.0 / h_e}
+    return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}
