@@ -67,6 +67,14 @@ MODEL_SOURCES: dict[str, str] = {
     # solar position
     "nrel_numpy": "Reda I., Andreas A. (2004). Solar position algorithm for solar radiation "
                   "applications. Solar Energy 76(5):577-589. doi:10.1016/j.solener.2003.12.003",
+    "spa_nodes": "Reda I., Andreas A. (2004). Solar position algorithm for solar radiation "
+                 "applications. Solar Energy 76(5):577-589. doi:10.1016/j.solener.2003.12.003 "
+                 "(evaluated at daily nodes and interpolated).",
+    "ephemeris": "Grover Hughes D. (1985). Engineering Astronomy. Sandia National Laboratories "
+                 "(the ephemeris solar position of pvlib).",
+    "ineichen": "Ineichen P., Perez R. (2002). A new airmass independent formulation for the "
+                "Linke turbidity coefficient. Solar Energy 73(3):151-157 (clear-sky "
+                "irradiance for the cloud estimate).",
     "spa": "Reda I., Andreas A. (2004). Solar position algorithm for solar radiation "
            "applications. Solar Energy 76(5):577-589. doi:10.1016/j.solener.2003.12.003",
     # sky temperature
@@ -138,6 +146,9 @@ _ALWAYS = [
     ("Sol-air (exterior equivalent) temperature",
      "ASHRAE Handbook - Fundamentals (2017), ch. 18, sol-air temperature; external surface "
      "resistance R_se = 1/h_e as in ISO 6946:2017."),
+    ("Psychrometrics",
+     "Saturation vapour pressure over water and ice after Hyland R.W., Wexler A. (1983), "
+     "ASHRAE Transactions 89(2A):500-519, as in ASHRAE Handbook - Fundamentals (2017), ch. 1."),
     ("Weather data conventions",
      "Hour-ending labels in local standard time; solar position at mid-hour "
      "(see the result's time_convention attribute)."),
@@ -183,7 +194,10 @@ def _e(value: object) -> str:
 
 def _fmt(value: object, digits: int = 1) -> str:
     if isinstance(value, (float, np.floating)):
-        return "–" if not np.isfinite(value) else f"{value:.{digits}f}"
+        if not np.isfinite(value):
+            return "–"
+        text = f"{value:.{digits}f}"
+        return text[1:] if text.startswith("-") and float(text) == 0.0 else text
     if isinstance(value, (int, np.integer)):
         return f"{value:d}"
     return str(value)
@@ -264,6 +278,14 @@ def _sky_source_names() -> dict[int, str]:
     return {int(k): str(v) for k, v in SKY_SOURCES.items()}
 
 
+def _clear_sky_names() -> list[str]:
+    try:
+        from solair.sky import CLEAR_SKY_MODELS
+    except ImportError:
+        return []
+    return list(CLEAR_SKY_MODELS)
+
+
 def _surfaces_section(name: str, ds: xr.Dataset) -> str:
     frame = pd.DataFrame(index=pd.Index([str(s) for s in ds["surface"].values], name="surface"))
     for coord, label in (("surface_tilt", "tilt [°]"), ("surface_azimuth", "azimuth [°]")):
@@ -285,11 +307,19 @@ def _surfaces_section(name: str, ds: xr.Dataset) -> str:
     return "".join(out)
 
 
+_OFF = {"", "0", "false", "no", "none", "off", "0.0"}
+
+
 def _model_tokens(attrs: dict) -> list[str]:
+    """Model names in a result's attributes: values naming a model, or switches that are on."""
     found = []
     for key, value in attrs.items():
-        for token in [str(key).lower(), *re.split(r"[\s,;:=/()]+", str(value).lower())]:
-            if token in MODEL_SOURCES and token not in found:
+        words = re.split(r"[\s,;:=/()]+", str(value).lower())
+        tokens = [w for w in words if w in MODEL_SOURCES]
+        if str(key).lower() in MODEL_SOURCES and str(value).strip().lower() not in _OFF:
+            tokens.append(str(key).lower())
+        for token in tokens:
+            if token not in found:
                 found.append(token)
     return found
 
@@ -308,6 +338,10 @@ def _models_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
         for tok in _model_tokens(res.attrs):
             if tok not in tokens:
                 tokens.append(tok)
+        if "temp_sky_min" in res.data_vars:  # the spread runs every clear-sky correlation
+            for tok in _clear_sky_names():
+                if tok in MODEL_SOURCES and tok not in tokens:
+                    tokens.append(tok)
         if "sky_source" in res.data_vars:
             names = _sky_source_names()
             for code in np.unique(np.asarray(res["sky_source"].values)):

@@ -101,9 +101,10 @@ def test_every_offered_model_has_a_published_source():
     """Each model name the library offers must have a citation in the report's list."""
     from solair.convection import CONVECTION_MODELS
     from solair.sky import CLEAR_SKY_MODELS, SKY_SOURCES
+    from solair.sun import SOLAR_POSITION_METHODS, TRANSPOSITION_MODELS
 
     names = [*CLEAR_SKY_MODELS, *CONVECTION_MODELS, *SKY_SOURCES.values(),
-             "perez", "haydavies", "isotropic"]
+             *TRANSPOSITION_MODELS, *SOLAR_POSITION_METHODS]
     missing = [n for n in names if n not in report.MODEL_SOURCES]
     assert not missing
 
@@ -164,8 +165,12 @@ def test_greensboro_report_sections_images_and_sources(greensboro_page):
     assert_self_contained(page)
     assert "GREENSBORO PIEDMONT TRIAD INT, NC" in page
     # the models recorded in the result's attributes get their published source
-    for name in ("perez", "iso6946", "sky_cover_clark_allen"):
+    for name in ("perez", "iso6946", "sky_cover_clark_allen", "spa_nodes", "swinbank",
+                 "dilley_obrien"):
         assert html.escape(report.MODEL_SOURCES[name]) in page
+    # a switch that is off in the result (sky_air_split = 0) is not cited
+    assert html.escape(report.MODEL_SOURCES["sky_air_split"]) not in page
+    assert "<td>-0.0</td>" not in page
 
 
 def test_design_values_agree_with_solair_output(greensboro_page):
