@@ -121,13 +121,12 @@ def surface_balance_residual(
     return a * g + hc * (ta_k - ts) + lw
 
 
-def _newton_surface(q0, hc, esf, t0, tol, max_iter):
+def _newton_surface(q0, hc, esf, t0, tol, max_iter, shape):
     """Solve q0 - hc T - esf T^4 = 0 for T [K] by vectorised Newton (global for T > 0)."""
-    t = np.maximum(t0, 1.0)
+    t = np.broadcast_to(np.maximum(t0, 1.0), shape).copy()
     esf4 = 4.0 * esf
     for _ in range(max_iter):
-        t3 = t * t
-        t3 *= t
+        t3 = t * t * t
         den = esf4 * t3
         den += hc
         t3 *= esf
@@ -284,14 +283,13 @@ def temp_sol_air(
         q0 = ag + hc * ta_k + sigma * (efs * tsky_k**4 + efa * ta_k**4 + efg * tg_k**4)
         hs, ha, hg = coefficients(ta_k)
         t0 = ta_k + (ag + hs * d_sky + hg * d_gnd) / (hc + hs + ha + hg)
-        hs, ha, hg = coefficients(_newton_surface(q0, hc, esf, t0, tol, max_iter))
-    h_rad = hs + ha
-    h_rad += hg
+        hs, ha, hg = coefficients(_newton_surface(q0, hc, esf, t0, tol, max_iter, shape))
+    h_rad = hs + ha + hg
     h_e = h_rad + hc
     if np.min(h_e) < H_E_MIN:
         raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
     # T_eq = (h_c T_a + sum h_x T_x + alpha G) / h_e, written relative to T_a
-    t_eq = hs * d_sky
+    t_eq = np.multiply(hs, d_sky, out=np.empty(shape))
     t_eq += hg * d_gnd
     t_eq += ag
     t_eq /= h_e

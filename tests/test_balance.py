@@ -114,6 +114,28 @@ def test_surface_mode_vectorised_year_by_surfaces():
     assert_allclose(res, 0.0, atol=1e-5)
 
 
+@pytest.mark.parametrize("lin", ["air", "surface"])
+@pytest.mark.parametrize("conventional", [False, True])
+def test_broadcast_time_surface_finish(lin, conventional):
+    # (time, 1, 1) weather, (1, surface, 1) geometry, (1, 1, finish) optics: each output has
+    # the full shape and equals the element-by-element result
+    ta = np.array([-5.0, 12.0, 31.0])[:, None, None]
+    tsky = ta - np.array([18.0, 9.0, 3.0])[:, None, None]
+    g = np.array([0.0, 300.0, 850.0])[:, None, None] * np.array([1.0, 0.6])[None, :, None]
+    fs, fa, fg = (x[None, :, None] for x in longwave.view_factors(np.array([0.0, 90.0])))
+    alpha = np.array([0.2, 0.5, 0.95])[None, None, :]
+    kw = {"linearisation": lin, "conventional": conventional}
+    out = balance.temp_sol_air(ta, g, alpha, 0.9, 10.0, tsky, view_sky=fs, view_air=fa,
+                               view_ground=fg, **kw)
+    for key in ("temp_sol_air", "h_rad", "h_e", "r_se", "h_conv"):
+        assert out[key].shape == (3, 2, 3)
+    i, j, k = 2, 1, 0
+    one = balance.temp_sol_air(float(ta[i, 0, 0]), float(g[i, j, 0]), float(alpha[0, 0, k]), 0.9,
+                               10.0, float(tsky[i, 0, 0]), view_sky=float(fs[0, j, 0]),
+                               view_air=float(fa[0, j, 0]), view_ground=float(fg[0, j, 0]), **kw)
+    assert_allclose(out["temp_sol_air"][i, j, k], one["temp_sol_air"], rtol=1e-12)
+
+
 def test_surface_mode_zeroes_the_residual():
     ta, g, tsky = np.array([[5.0], [30.0]]), np.array([[0.0], [900.0]]), np.array([[-15.0], [15.0]])
     fs, fa, fg = longwave.view_factors(np.array([0.0, 45.0, 90.0]), sky_air_split=True)
