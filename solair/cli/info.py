@@ -72,7 +72,7 @@ def format_info(weather) -> str:
 
 
 @click.command("info")
-@click.argument("weather_file", metavar="WEATHER", type=click.Path(dir_okay=False))
+@click.argument("weather_file", metavar="WEATHER", type=click.Path(path_type=str))
 @click.option("--utc-offset", type=float, default=None, metavar="HOURS",
               help="UTC offset of the file's time stamps [h], overriding the header "
                    "(e.g. 0 for a file whose rows are in UTC).")
