@@ -17,7 +17,9 @@ step ends with one scalar equation for the exterior surface node,
 
 which the caller closes with its exterior boundary (linear, nonlinear, with or
 without latent heat) before back-substituting the other nodes. The interior
-coefficients stay the same from step to step and are factorised once.
+coefficients stay the same from step to step and are factorised once; the two
+sweeps are then precomputed as matrices, so a step costs two batched products
+(:meth:`Factorisation.reduce`, :meth:`Factorisation.solve`).
 
 References
 ----------
@@ -41,7 +43,7 @@ import numpy as np
 from solair.constructions import Construction
 from solair.errors import ConfigurationError
 
-__all__ = ["Grid", "build_grid", "solve_tridiagonal", "Factorisation", "factorise",
+__all__ = ["Grid", "build_grid", "solve_tridiagonal", "Factorisation", "factorise", "select",
            "eliminate", "back_substitute"]
 
 #: Period used to size the cells: the daily cycle [s].
@@ -178,6 +180,34 @@ class Factorisation:
     g: np.ndarray
     inv_e: np.ndarray
     h_in: np.ndarray
+    first_row: np.ndarray | None = None
+    solve_matrix: np.ndarray | None = None
+    from_surface: np.ndarray | None = None
+
+    def reduce(self, b: np.ndarray) -> np.ndarray:
+        """r_0 = Σ_k N_0k b_k: the exterior node's reduced right-hand side, shape (cols,)."""
+        return np.einsum("kc,kc->c", self.first_row, b)
+
+    def solve(self, b: np.ndarray, temp_0: np.ndarray) -> np.ndarray:
+        """All node temperatures from the right-hand side and the exterior node's value.
+
+        T = W b + P T_0, the closed form of the elimination and back-substitution
+        (W and P built by :func:`factorise`), one batched product per step.
+        """
+        return np.einsum("jkc,kc->jc", self.solve_matrix, b) + self.from_surface * temp_0
+
+
+def select(mask, when_true: Factorisation, when_false: Factorisation) -> Factorisation:
+    """Column-wise choice between two factorisations of the same grid (e.g. two R_si)."""
+    def pick(x, y):
+        return np.where(mask, x, y)
+
+    return Factorisation(
+        cdt=when_true.cdt, e=pick(when_true.e, when_false.e), g=pick(when_true.g, when_false.g),
+        inv_e=pick(when_true.inv_e, when_false.inv_e), h_in=pick(when_true.h_in, when_false.h_in),
+        first_row=pick(when_true.first_row, when_false.first_row),
+        solve_matrix=pick(when_true.solve_matrix, when_false.solve_matrix),
+        from_surface=pick(when_true.from_surface, when_false.from_surface))
 
 
 def factorise(grid: Grid, dt: float, h_in, *, storage: float = 1.0) -> Factorisation:
@@ -208,7 +238,21 @@ def factorise(grid: Grid, dt: float, h_in, *, storage: float = 1.0) -> Factorisa
     for j in range(n - 2, -1, -1):
         g[j] = k[j] / e[j + 1]
         e[j] = diag[j] - k[j] * g[j]
-    return Factorisation(cdt=cdt, e=e, g=g, inv_e=1.0 / e, h_in=h_in)
+    inv_e = 1.0 / e
+    # closed form of the two sweeps: r = N b with N_jk = prod_{i=j}^{k-1} g_i (k >= j),
+    # T_j = sum_{k>=1} N_kj r_k / e_k + N_0j T_0
+    big_n = np.zeros((n, n, h_in.size))
+    for j in range(n - 1, -1, -1):
+        big_n[j, j] = 1.0
+        if j < n - 1:
+            big_n[j, j + 1:] = g[j] * big_n[j + 1, j + 1:]
+    back = big_n.copy()
+    back[0] = 0.0
+    solve_matrix = np.einsum("kjc,kc,kmc->jmc", back, inv_e, big_n)
+    return Factorisation(cdt=cdt, e=e, g=g, inv_e=inv_e, h_in=h_in,
+                         first_row=np.ascontiguousarray(big_n[0]),
+                         solve_matrix=np.ascontiguousarray(solve_matrix),
+                         from_surface=np.ascontiguousarray(big_n[0]))
 
 
 def eliminate(fac: Factorisation, storage_rhs: np.ndarray, temp_in) -> np.ndarray:

@@ -161,11 +161,10 @@ def _closure(e0, r0, ext, dew, hour, t_guess, water, dt, iterations):
         if not maybe.any():
             t = t_dry
             continue
-        p_plus = dew.mod.saturation_vapor_pressure(t + 1e-3)
-        p_minus = dew.mod.saturation_vapor_pressure(t - 1e-3)
-        ps = 0.5 * (p_plus + p_minus)
-        slope = (p_plus - p_minus) / 2e-3
+        ps = dew.mod.saturation_vapor_pressure(t)
         heat = dew.mod.latent_heat(t)
+        # Clausius-Clapeyron slope for the Newton step (the root uses p_sat itself)
+        slope = ps * heat / (dew.mod.R_VAPOUR * (t + _K) ** 2)
         lat = heat * dew.beta[hour]
         p_v = dew.p_v[hour]
         a_l = lat * (p_v - ps + slope * t)
@@ -240,7 +239,8 @@ def surface_response(
         ``temp_air, temp_dew, pressure, h_conv``: enables dew and frost with
         latent heat; None leaves the surface dry.
     substeps : int
-        Time steps per hour (6 = 10 min).
+        Time steps per hour of "transient" (6 = 10 min); "massless" and
+        "steady" store nothing but the condensate and step hourly.
     spinup_days : int
         Days at the end of the series run first to set the initial state
         ("transient" and dew).
@@ -248,7 +248,8 @@ def surface_response(
         Fixed R_si [m2 K W-1] instead of ISO 6946's direction-dependent value.
     newton_iterations : int, optional
         Newton iterations of the exterior closure per step (default 1 when
-        the closure is linear, else 2 for "transient" and 5 otherwise).
+        the closure is linear or "transient", whose 10-minute steps linearise
+        about the previous step's state, else 4).
     max_cell : float
         Largest finite-volume cell [m] (see :func:`solair.conduction.build_grid`).
     scheme : {"bdf2", "euler"}
@@ -300,8 +301,9 @@ def surface_response(
                 "response 'steady' needs a construction or a resistance > 0 m2 K W-1")
     nonlinear = exterior == "nonlinear" or dewc is not None
     if newton_iterations is None:
-        newton_iterations = 1 if not nonlinear else (2 if model == "transient" else 5)
-    if model != "transient" and dewc is None:
+        newton_iterations = 1 if not nonlinear else (1 if model == "transient" else 4)
+    if model != "transient":
+        # no storage but the condensate: hourly steps (the closure is implicit)
         substeps = 1
     dt = 3600.0 / substeps
 
@@ -329,6 +331,11 @@ def surface_response(
     if model == "transient":
         grid = conduction.build_grid(construction, max_cell=max_cell)
         fac = conduction.factorise(grid, dt, h_in, storage=storage)
+        if r_inside is None:
+            fac_inward = conduction.factorise(grid, dt, h_inside(np.ones(ncol, bool)),
+                                              storage=storage)
+            fac_outward = conduction.factorise(grid, dt, h_inside(np.zeros(ncol, bool)),
+                                               storage=storage)
         fac_first = conduction.factorise(grid, dt, h_in) if scheme == "bdf2" else fac
         temps = _initial_profile(grid, t_eq_mean, t_in.mean(axis=0), h_in)
         cap = grid.capacity[:, None]
@@ -371,15 +378,16 @@ def surface_response(
             if model == "transient":
                 if temps_prev is not None and scheme == "bdf2":
                     f = fac
-                    r = conduction.eliminate(f, f.cdt * (2.0 * temps - 0.5 * temps_prev), ti)
+                    rhs = f.cdt * (2.0 * temps - 0.5 * temps_prev)
                 else:
                     f = fac_first
-                    r = conduction.eliminate(f, f.cdt * temps, ti)
-                e0, r0 = f.e[0], r[0]
+                    rhs = f.cdt * temps
+                rhs[-1] += f.h_in * ti
+                e0, r0 = f.e[0], f.reduce(rhs)
             t_surf, q_ext, q_lat, cond = _closure(e0, r0, ext, dewc, hour, t_surf, water, dt,
                                                   newton_iterations)
             if model == "transient":
-                temps_prev, temps = temps, conduction.back_substitute(f, r, t_surf)
+                temps_prev, temps = temps, f.solve(rhs, t_surf)
                 q_int = f.h_in * (temps[-1] - ti)
                 if record and first_recorded and scheme == "bdf2":
                     # the backward-Euler start is BDF2 with T^(-1) = 2 T^0 - T^1
@@ -413,7 +421,7 @@ def surface_response(
             new_inward = acc_q > 0
             if np.any(new_inward != inward):
                 inward = new_inward
-                fac = conduction.factorise(grid, dt, h_inside(inward), storage=storage)
+                fac = conduction.select(inward, fac_inward, fac_outward)
                 if temps_prev is None:
                     fac_first = conduction.factorise(grid, dt, h_inside(inward))
     if model == "transient":
