@@ -13,6 +13,7 @@ import click
 SKY_CHOICES = (
     "auto", "infrared", "swinbank", "brunt", "brutsaert", "idso_jackson", "idso",
     "berdahl_fromberg", "berdahl_martin", "clark_allen", "prata", "dilley_obrien",
+    "li_jiang_coimbra",
 )
 TRANSPOSITION_CHOICES = ("perez", "haydavies", "isotropic")
 CONVECTION_CHOICES = ("iso6946", "iso6946_conventional", "yazdanian_klems", "walton")

@@ -1,0 +1,112 @@
+"""Result writers (solair.output): CSV/NetCDF round trips, atomic writes, summaries."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+from numpy.testing import assert_allclose
+
+import solair
+from solair import output
+from solair.errors import ConfigurationError
+from solair.surfaces import Surface
+
+
+@pytest.fixture(scope="module")
+def result(greensboro_weather):
+    return solair.compute(greensboro_weather, [Surface("roof", 0, 180), Surface("S", 90, 180)])
+
+
+def test_local_time_is_hour_ending_local_standard_time(result):
+    t = output.local_time(result)
+    assert str(t[0]) == "2001-01-01 01:00:00-05:00"
+    assert str(t[-1]) == "2002-01-01 00:00:00-05:00"
+
+
+def test_csv_round_trip_with_pandas(result, tmp_path):
+    path = output.write_result(result, tmp_path / "run.csv")
+    df = pd.read_csv(path)
+    assert df.columns[0] == "time_local"
+    assert df["time_local"].iloc[0] == "2001-01-01T01:00:00-05:00"
+    assert "temp_sol_air[roof] (°C)" in df.columns and "r_se[S] (m2 K W-1)" in df.columns
+    assert "temp_air (°C)" in df.columns and "sky_source" in df.columns
+    t = pd.to_datetime(df["time_local"])
+    assert (t.dt.tz_convert("UTC").dt.tz_localize(None).to_numpy() == result["time"].values).all()
+    assert_allclose(df["temp_sol_air[roof] (°C)"], result["temp_sol_air"].sel(surface="roof"),
+                    rtol=1e-5, atol=1e-4)
+    assert_allclose(df["poa_global[S] (W m-2)"], result["poa_global"].sel(surface="S"),
+                    rtol=1e-5, atol=1e-3)
+    assert not list(tmp_path.glob(".*.part"))
+
+
+def test_netcdf_round_trip_with_xarray(result, tmp_path):
+    path = output.write_result(result, tmp_path / "run.nc")
+    with xr.open_dataset(path, engine="h5netcdf") as back:
+        back = back.load()
+    xr.testing.assert_allclose(back[["temp_sol_air", "r_se", "temp_sky", "poa_global"]],
+                               result[["temp_sol_air", "r_se", "temp_sky", "poa_global"]])
+    assert back["time"].values[0] == np.datetime64("2001-01-01T06:00")
+    assert back.attrs["utc_offset_hours"] == -5.0
+    assert back["temp_sol_air"].attrs["units"] == "degC"
+    assert back.attrs["caution"].startswith("engineering estimate")
+    assert list(back["sky_source"].attrs["flag_values"]) == [0, 1, 2, 3]
+
+
+def test_unknown_suffix_and_missing_folder(result, tmp_path):
+    with pytest.raises(ConfigurationError, match=r"suffix '.xlsx' is not one of \['.csv', '.nc'\]"):
+        output.write_result(result, tmp_path / "run.xlsx")
+    with pytest.raises(ConfigurationError, match="output folder .* does not exist"):
+        output.write_result(result, tmp_path / "nope" / "run.csv")
+
+
+def test_failed_write_leaves_no_file(result, tmp_path, monkeypatch):
+    # an error in the middle of writing (simulated) must leave neither the target nor a
+    # temporary file behind
+    target = tmp_path / "run.csv"
+
+    def boom(self, path, *a, **k):
+        with open(path, "w") as fh:
+            fh.write("time_local,partial\n")
+        raise OSError("disk full (simulated)")
+
+    monkeypatch.setattr(pd.DataFrame, "to_csv", boom)
+    with pytest.raises(OSError, match="simulated"):
+        output.write_result(result, target)
+    assert not target.exists()
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_failed_write_keeps_the_previous_file(result, tmp_path, monkeypatch):
+    target = tmp_path / "run.nc"
+    target.write_text("previous result")
+
+    def boom(self, *a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(xr.Dataset, "to_netcdf", boom)
+    with pytest.raises(KeyboardInterrupt):
+        output.write_result(result, target)
+    assert target.read_text() == "previous result"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["run.nc"]
+
+
+def test_monthly_means_match_a_direct_groupby(result):
+    m = output.monthly_means(result)
+    assert list(m.index) == list(range(1, 13))
+    local = output.local_time(result) - pd.Timedelta(minutes=30)
+    roof = pd.Series(result["temp_sol_air"].sel(surface="roof").values, index=local)
+    expect = roof.groupby(roof.index.month).mean()
+    assert_allclose(m["temp_sol_air[roof] (°C)"].to_numpy(), expect.to_numpy(), rtol=1e-12)
+    assert "temp_air (°C)" in m.columns
+
+
+def test_design_values_are_the_1_and_99_percentiles(result):
+    d = output.design_values(result)
+    assert list(d.index) == ["roof", "S"]
+    v = result["temp_sol_air"].sel(surface="S").values
+    assert_allclose(d.loc["S", "temp_sol_air_p01 (°C)"], np.percentile(v, 1))
+    assert_allclose(d.loc["S", "temp_sol_air_p99 (°C)"], np.percentile(v, 99))
+    # 1 % of the hours lie above the 99th percentile
+    assert abs((v > d.loc["S", "temp_sol_air_p99 (°C)"]).mean() - 0.01) < 0.001
