@@ -40,9 +40,10 @@ MAX_GAP_HOURS = 6
 REFERENCE_YEAR = 2001
 
 #: physical range per field [lower, upper] in the canonical unit. Bounds follow the
-#: EnergyPlus EPW data dictionary's valid ranges where it gives them (dry bulb
-#: -70..70 widened to the -90 °C record low, RH 0..110, pressure 31 000..120 000 Pa,
-#: wind 0..40 m/s, direction 0..360, cloud 0..10 tenths); the rest is common practice.
+#: EnergyPlus EPW data dictionary's valid ranges as recalled (from memory: dry bulb
+#: -70..70 °C, here widened to the -89 °C record low; RH 0..110 %; pressure
+#: 31 000..120 000 Pa; wind 0..40 m/s; direction 0..360°; cloud 0..10 tenths); the
+#: rest is common practice.
 RANGES = {
     "temp_air": (-90.0, 70.0),
     "temp_dew": (-100.0, 60.0),
@@ -83,10 +84,15 @@ def _stamp(ts: pd.Timestamp) -> str:
 # --------------------------------------------------------------------------- header
 
 def check_header(meta: dict, name: str, utc_offset: float | None) -> None:
-    """Latitude, longitude, elevation and time zone in range; zone plausible."""
+    """Latitude, longitude, elevation and time zone in range; zone plausible.
+
+    Ranges of the EPW data dictionary's LOCATION record (latitude ±90°, longitude
+    ±180°, elevation -1000..9999.9 m); the time zone is allowed -12..+14 h, the
+    zones in use (the dictionary stops at +12).
+    """
     lat, lon, alt, tz = meta["latitude"], meta["longitude"], meta["altitude"], meta["utc_offset"]
     checks = [("latitude", lat, -90.0, 90.0, "°"), ("longitude", lon, -180.0, 180.0, "°"),
-              ("elevation", alt, -500.0, 9000.0, "m"), ("time zone", tz, -12.0, 14.0, "h")]
+              ("elevation", alt, -1000.0, 9999.9, "m"), ("time zone", tz, -12.0, 14.0, "h")]
     for what, v, lo, hi, unit in checks:
         if not np.isfinite(v) or not lo <= v <= hi:
             raise _fail(name, f"header {what} = {v:g} {unit} is outside [{lo:g}, {hi:g}] {unit}",
