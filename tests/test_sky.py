@@ -303,3 +303,23 @@ def test_auto_sky_uses_real_infrared_of_era_epw(era_weather):
     assert np.mean(src == 0) > 0.99
     assert np.all(np.isfinite(tsky))
     assert np.all(tsky <= d["temp_air"].to_numpy() + 10.0)
+
+
+def test_all_models_share_the_cloud_correction():
+    # every correlation gets the same Clark-Allen/Walton cloud factor from the opaque cover
+    clear = sky.sky_temperature_all_models(10.0, 2.0, 95000.0)
+    cloudy = sky.sky_temperature_all_models(10.0, 2.0, 95000.0, opaque_sky_cover=7.0)
+    factor = 1 + 0.0224 * 7 - 0.0035 * 49 + 0.00028 * 343
+    for name in sky.CLEAR_SKY_MODELS:
+        eps_clear = ((clear[name] + 273.15) / 283.15) ** 4
+        expected = min(eps_clear * factor, 1.0) ** 0.25 * 283.15 - 273.15
+        assert_allclose(cloudy[name], expected, atol=1e-9, err_msg=name)
+
+
+def test_infrared_model_falls_back_hour_by_hour():
+    black = SIGMA * 288.15**4
+    tsky, src = sky.get_sky_temperature(np.full(3, 15.0), 5.0, model="infrared",
+                                        ghi_infrared=np.array([0.8 * black, np.nan, 0.1]),
+                                        opaque_sky_cover=np.array([np.nan, 3.0, np.nan]))
+    assert src.tolist() == [0, 1, 3]
+    assert_allclose(tsky[0], 0.8**0.25 * 288.15 - 273.15, atol=1e-9)
