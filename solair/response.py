@@ -40,7 +40,8 @@ from solair import conduction
 from solair.constructions import Construction, r_si
 from solair.errors import ConfigurationError
 
-__all__ = ["RESPONSE_MODELS", "EXTERIOR_MODELS", "TIME_SCHEMES", "SIGMA", "surface_response"]
+__all__ = ["RESPONSE_MODELS", "EXTERIOR_MODELS", "TIME_SCHEMES", "SIGMA", "WET_FILM",
+           "surface_response"]
 
 #: Allowed response models, name -> one-line description.
 RESPONSE_MODELS: dict[str, str] = {
@@ -52,6 +53,9 @@ RESPONSE_MODELS: dict[str, str] = {
 EXTERIOR_MODELS = frozenset({"linear", "nonlinear"})
 #: Implicit time schemes of the transient model: BDF2 (default) or backward Euler.
 TIME_SCHEMES = frozenset({"bdf2", "euler"})
+#: Smallest held water counted as a wet surface [kg m-2] (1 g m-2, a film of
+#: about 1 µm; our choice, so that traces left by a slow evaporation do not count).
+WET_FILM = 1e-3
 #: Stefan-Boltzmann constant, CODATA 2018 [W m-2 K-4].
 SIGMA = 5.670374419e-8
 _K = 273.15
@@ -97,6 +101,7 @@ class _Exterior:
         f = {k: _flat(balance[k], shape, k) for k in _BALANCE_KEYS}
         rad = f["emissivity"] * SIGMA
         self.h_conv = f["h_conv"]
+        self.temp_air_mean = f["temp_air"].mean(axis=0)
         self.r4 = rad * (f["view_sky"] + f["view_air"] + f["view_ground"])
         self.q0 = (f["absorptance"] * f["poa_global"] + f["h_conv"] * f["temp_air"]
                    + rad * (f["view_sky"] * (f["temp_sky"] + _K) ** 4
@@ -266,7 +271,8 @@ def surface_response(
         ``heat_flux_exterior`` [W m-2] into the construction at the exterior
         face (latent included), ``latent_flux`` [W m-2], ``condensation``
         [kg m-2 per hour, negative when evaporating], ``condensate`` [kg m-2]
-        held at the end of each hour, ``wet`` [bool]; all shape
+        held at the end of each hour, ``wet`` [bool] (at least
+        :data:`WET_FILM` held at the end of a step in the hour); all shape
         (time, ...). ``energy``: per-column totals of the main run
         (``stored_start``, ``stored_end`` [J m-2], ``into`` and ``out_of`` the
         construction [J m-2], ``gross`` throughput [J m-2]).
@@ -308,7 +314,7 @@ def surface_response(
     dt = 3600.0 / substeps
 
     # indoor-side coefficients: ISO 6946 by tilt and heat-flow direction
-    t_eq_mean = (ext.a / ext.b).mean(axis=0) if ext.linear else t_in.mean(axis=0) + 10.0
+    t_eq_mean = (ext.a / ext.b).mean(axis=0) if ext.linear else ext.temp_air_mean
     inward0 = t_eq_mean > t_in.mean(axis=0)
 
     def h_inside(inward):
@@ -399,7 +405,7 @@ def surface_response(
                 q_int = 0.0
             if dewc is not None:
                 water = np.maximum(water + cond, 0.0)
-                wet_any |= water > 0
+                wet_any |= water >= WET_FILM
                 acc_ql += q_lat
                 acc_g += cond
             acc_t += t_surf
