@@ -1,17 +1,16 @@
 """Sky emissivity, cloud corrections and the effective sky temperature.
 
-One function per published clear-sky correlation, each with the same signature
-``f(temp_air, temp_dew, pressure=101325.0, *, solar_hour=None) -> emissivity``
-(a correlation uses only the inputs it needs), the cloud corrections, the sky
-temperature from a weather file's horizontal infrared, a daytime cloud fraction
-from the measured irradiance, and the ``auto`` selection that picks the best
-available source hour by hour.
+One function per published clear-sky correlation, the cloud corrections, the
+sky temperature from a weather file's horizontal infrared, a daytime cloud
+fraction from the measured irradiance, and the ``auto`` selection that picks the
+best available source hour by hour.
 
 The effective sky temperature follows from the sky emissivity as
 :math:`T_{sky} = \\varepsilon_{sky}^{1/4}\\,T_a` (K), i.e. the horizontal
 downwelling long-wave irradiance is :math:`L\\downarrow = \\varepsilon_{sky}\\sigma T_a^4`.
 
-Every correlation ``emissivity_*`` takes ``temp_air`` and ``temp_dew`` [°C],
+Every correlation ``emissivity_*(temp_air, temp_dew, pressure=101325.0, *,
+solar_hour=None)`` takes ``temp_air`` and ``temp_dew`` [°C],
 ``pressure`` [Pa] (station) and ``solar_hour`` [h, solar time, 0-24], uses only
 those it needs, broadcasts, and returns the clear-sky emissivity [-]. Each
 converts to its own units (vapour pressure in hPa, dew point in °C or K, see
@@ -50,12 +49,8 @@ __all__ = [
 Array = NDArray[np.float64]
 
 #: Code -> name of the source of the sky temperature in each hour.
-SKY_SOURCES = {
-    0: "file_infrared",
-    1: "sky_cover_clark_allen",
-    2: "irradiance_cloud_estimate",
-    3: "clear_sky_only",
-}
+SKY_SOURCES = {0: "file_infrared", 1: "sky_cover_clark_allen", 2: "irradiance_cloud_estimate",
+               3: "clear_sky_only"}
 
 #: Valid band of the file's horizontal infrared, as a fraction of σT_a⁴.
 INFRARED_VALID_RANGE = (0.5, 1.1)
