@@ -17,6 +17,7 @@ naive UTC, each label the **end** of the hour it covers; the global attribute
 
 from __future__ import annotations
 
+import functools
 import os
 import warnings
 from collections.abc import Iterable
@@ -412,6 +413,7 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
     return ds
 
 
+@functools.lru_cache(maxsize=1)
 def _solair_version() -> str:
     try:
         return _pkg_version("solair")

@@ -413,11 +413,13 @@ def plane_of_array(
 ) -> dict[str, np.ndarray]:
     """Total irradiance on every surface for every hour, in one pvlib call.
 
-    The surfaces are reshaped to ``(n_surfaces, 1)`` and broadcast against
-    the hourly arrays ``(n_hours,)`` inside one
-    :func:`pvlib.irradiance.get_total_irradiance` call; results are returned
-    as ``(n_hours, n_surfaces)``. Numpy arrays are passed (pvlib's Series
-    branches do not broadcast).
+    The hourly arrays are reshaped to columns ``(n_hours, 1)`` and broadcast
+    against the surfaces ``(n_surfaces,)`` inside one
+    :func:`pvlib.irradiance.get_total_irradiance` call, which returns
+    ``(n_hours, n_surfaces)`` directly in the (time, surface) order of the
+    results (the transposed layout, surfaces ``(n_surfaces, 1)`` against hours
+    ``(n_hours,)``, gives identical numbers but needs a transposing copy).
+    Numpy arrays are passed (pvlib's Series branches do not broadcast).
 
     Beam: where the sun is on or below the horizon (``solar_zenith >= 90``)
     the beam is set to zero -- it cannot be projected from there; the hour's
@@ -461,46 +463,49 @@ def plane_of_array(
     .. [3] Hay, J. E. and Davies, J. A. (1980), see module references.
     """
     check_transposition_model(model)
-    tilt = np.asarray(surface_tilt, dtype=float).reshape(-1, 1)
-    azim = np.asarray(surface_azimuth, dtype=float).reshape(-1, 1)
-    zen = np.asarray(solar_zenith, dtype=float)
-    sazi = np.asarray(solar_azimuth, dtype=float)
-    dhi = np.asarray(dhi, dtype=float)
-    ghi = np.asarray(ghi, dtype=float)
+    tilt = np.asarray(surface_tilt, dtype=float).reshape(-1)
+    azim = np.asarray(surface_azimuth, dtype=float).reshape(-1)
+
+    def col(x):  # hourly values as a column (n_hours, 1); scalars stay scalars
+        x = np.asarray(x, dtype=float)
+        return x.reshape(-1, 1) if x.ndim else x
+
+    zen, sazi, dhi, ghi = col(solar_zenith), col(solar_azimuth), col(dhi), col(ghi)
     sun_up = zen < 90.0
-    dni = np.where(sun_up, np.asarray(dni, dtype=float), 0.0)
-    albedo = np.asarray(albedo, dtype=float)
+    dni = np.where(sun_up, col(dni), 0.0)
     kwargs = {}
     if model in ("haydavies", "perez"):
         if dni_extra is None:
             raise ConfigurationError(f"transposition model {model!r} needs dni_extra")
-        kwargs["dni_extra"] = np.asarray(dni_extra, dtype=float)
+        kwargs["dni_extra"] = col(dni_extra)
     if model == "perez":
         if airmass is None:
             raise ConfigurationError("transposition model 'perez' needs airmass")
-        kwargs["airmass"] = np.asarray(airmass, dtype=float)
+        kwargs["airmass"] = col(airmass)
     with np.errstate(invalid="ignore", divide="ignore"):
         irr = pvlib.irradiance.get_total_irradiance(
-            tilt, azim, zen, sazi, dni, ghi, dhi, albedo=albedo, model=model, **kwargs
+            tilt, azim, zen, sazi, dni, ghi, dhi, albedo=col(albedo), model=model, **kwargs
         )
-    sky = np.asarray(irr["poa_sky_diffuse"], dtype=float)
-    ground = np.broadcast_to(np.asarray(irr["poa_ground_diffuse"], dtype=float), sky.shape)
-    direct = np.broadcast_to(np.asarray(irr["poa_direct"], dtype=float), sky.shape)
-    isotropic = dhi * (1.0 + np.cos(np.radians(tilt))) / 2.0
+    shape = (zen.shape[0], tilt.size)
+    sky = np.broadcast_to(np.asarray(irr["poa_sky_diffuse"], dtype=float), shape)
+    ground = np.broadcast_to(np.asarray(irr["poa_ground_diffuse"], dtype=float), shape)
+    direct = np.broadcast_to(np.asarray(irr["poa_direct"], dtype=float), shape)
     bad = ~np.isfinite(sky)
     if model == "perez":
-        bad |= (~sun_up & (dhi > 0.0))[np.newaxis, :]
-    replaced = bad.any(axis=0)
+        bad = bad | (~sun_up & (dhi > 0.0))
+    replaced = bad.any(axis=1)
     fallback_hours = int(replaced.sum())
-    fallback_with_diffuse = int((replaced & (dhi > 0.0)).sum())
-    sky = np.where(bad, isotropic, sky)
+    fallback_with_diffuse = int((replaced & (dhi[:, 0] > 0.0)).sum())
+    if fallback_hours:
+        isotropic = dhi * (1.0 + np.cos(np.radians(tilt))) / 2.0
+        sky = np.where(bad, isotropic, sky)
     direct = np.where(np.isfinite(direct), direct, 0.0)
     total = direct + sky + ground
     return {
-        "poa_global": np.ascontiguousarray(total.T),
-        "poa_direct": np.ascontiguousarray(direct.T),
-        "poa_sky_diffuse": np.ascontiguousarray(sky.T),
-        "poa_ground_diffuse": np.ascontiguousarray(ground.T),
+        "poa_global": total,
+        "poa_direct": direct,
+        "poa_sky_diffuse": np.ascontiguousarray(sky),
+        "poa_ground_diffuse": np.ascontiguousarray(ground),
         "sky_diffuse_fallback_hours": fallback_hours,
         "sky_diffuse_fallback_hours_with_diffuse": fallback_with_diffuse,
     }
