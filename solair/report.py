@@ -304,7 +304,20 @@ def _surfaces_section(name: str, ds: xr.Dataset) -> str:
             if coord in ds.coords and ds[coord].dims == ("finish",):
                 fin[coord] = np.asarray(ds[coord].values, dtype=float)
         out.append(_table(fin, digits=2, caption="Finishes"))
+    build = [(label, ds.attrs[key]) for key, label in _CONSTRUCTION_ATTRS if key in ds.attrs]
+    if build:
+        rows = "".join(f'<tr><th class="t">{_e(k)}</th><td class="t">{_e(_fmt(v, 2))}</td></tr>'
+                       for k, v in build)
+        out.append(f"<table><caption>Construction behind the finish</caption><tbody>{rows}"
+                   "</tbody></table>")
     return "".join(out)
+
+
+_CONSTRUCTION_ATTRS = [("construction", "Construction"), ("construction_layers", "Layers"),
+                       ("construction_resistance", "Thermal resistance of the layers [m²·K/W]"),
+                       ("temp_indoor", "Indoor air temperature [°C]"),
+                       ("response_model", "Surface response model"),
+                       ("finish_sources", "Sources of the finish properties")]
 
 
 _OFF = {"", "0", "false", "no", "none", "off", "0.0"}
@@ -362,6 +375,9 @@ def _models_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
 
 
 def _main_variable(ds: xr.Dataset) -> str:
+    """temp_surface for a compare/batch result (the response), else temp_sol_air."""
+    if "finish" in ds.dims and "temp_surface" in ds.data_vars:
+        return "temp_surface"
     return "temp_sol_air" if "temp_sol_air" in ds.data_vars else "temp_surface"
 
 
@@ -410,23 +426,59 @@ def design_values_table(ds: xr.Dataset, *, finish: str | None = None) -> pd.Data
     return frame
 
 
+def _report_finish(ds: xr.Dataset) -> str | None:
+    """The finish shown in hourly tables and figures: the most absorbing one (worst case)."""
+    if "finish" not in ds.dims:
+        return None
+    names = [str(f) for f in ds["finish"].values]
+    if "absorptance" in ds.coords and ds["absorptance"].dims == ("finish",):
+        return names[int(np.argmax(ds["absorptance"].values))]
+    return names[0]
+
+
+_KEY_METRICS = ["absorptance", "emissivity", "sri", "temp_surface_max", "temp_surface_p99",
+                "hours_above_threshold", "dew_hours", "frost_hours", "freeze_thaw_cycles",
+                "heat_gain", "heat_loss", "condensate_total"]
+
+
+def _metrics_table(frame: pd.DataFrame, caption: str) -> str:
+    """Key columns of a compare metrics table / batch summary, with their definitions."""
+    ids = [c for c in ("climate", "surface", "finish") if c in frame.columns]
+    keys = [c for c in _KEY_METRICS if c in frame.columns]
+    if not keys:
+        return _table(frame, index=False, digits=2, caption=caption)
+    shown = frame[ids + keys]
+    defs = []
+    for c in keys:
+        label, unit = shaping.metric_label(c)
+        defs.append(f"<li><b>{_e(c)}</b>: {_e(label)}" + (f" [{_e(unit)}]" if unit else "")
+                    + "</li>")
+    rest = [c for c in frame.columns if c not in ids + keys]
+    more = (f'<p class="meta">Further columns in the file: {_e(", ".join(rest))}.</p>'
+            if rest else "")
+    return (_table(shown, index=False, digits=2, caption=caption)
+            + f'<ul class="meta">{"".join(defs)}</ul>' + more)
+
+
 def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) -> str:
     out = []
+    has_table = any(detect_result_type(r) == "metrics" for _, r in results)
     for name, res in results:
         rtype = detect_result_type(res)
         if isinstance(res, xr.Dataset):
-            finish = str(res["finish"].values[0]) if "finish" in res.dims else None
+            finish = _report_finish(res)
             var = _main_variable(res)
             what = "sol-air" if var == "temp_sol_air" else "surface"
             fin = f", finish {finish}" if finish else ""
             out.append(f"<h3>{_e(name)}</h3>")
+            air = "air and " if "temp_air" in res.data_vars else ""
             out.append(_table(monthly_means_table(res, finish=finish),
-                              caption=f"Monthly mean air and {what} temperature [°C]{fin} "
+                              caption=f"Monthly mean {air}{what} temperature [°C]{fin} "
                                       "(local standard time)"))
             out.append(_table(design_values_table(res, finish=finish),
                               caption=f"Design values of the {what} temperature [°C]{fin}: "
                                       "annual percentiles of the hourly values"))
-            if "finish" in res.dims:
+            if "finish" in res.dims and not has_table:
                 metrics = shaping.finish_metrics(res)
                 out.append(_table(metrics, index=False,
                                   caption="Finish metrics recomputed from the hourly result: "
@@ -435,7 +487,7 @@ def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
         else:
             label = "Portfolio summary" if rtype == "summary" else "Finish metrics"
             out.append(f"<h3>{_e(name)}</h3>")
-            out.append(_table(res, index=False, digits=2, caption=label))
+            out.append(_metrics_table(res, label))
     return "".join(out)
 
 
@@ -464,20 +516,31 @@ def _report_surfaces(ds: xr.Dataset) -> list[str]:
     return chosen
 
 
-def _figures_for(name: str, res: xr.Dataset | pd.DataFrame, dpi: float) -> list[str]:
+def _figures_for(name: str, res: xr.Dataset | pd.DataFrame, dpi: float,
+                 has_table: bool = False) -> list[str]:
     rtype = detect_result_type(res)
     out = []
     plans: list[tuple[str, dict, str]] = []
     if isinstance(res, xr.Dataset):
         site = res.attrs.get("site_name", name)
-        plans += [("duration", {}, f"{site}: duration curves per surface"),
-                  ("monthly", {}, f"{site}: monthly mean and 10-90 % band per surface")]
-        plans.append(("carpet", {"surfaces": _report_surfaces(res), "minus_air": True},
-                      f"{site}: sol-air minus air temperature, day of year x hour"))
+        finish = _report_finish(res)
+        var = "temp_surface" if "temp_surface" in res.data_vars else "temp_sol_air"
+        what = "surface" if var == "temp_surface" else "sol-air"
+        fin = f", finish {finish}" if finish else ""
+        opts = {"variable": var, "finish": finish}
+        plans += [("duration", opts, f"{site}: duration curves of the {what} temperature{fin}"),
+                  ("monthly", opts, f"{site}: monthly mean and 10-90 % band of the {what} "
+                                    f"temperature{fin}")]
+        carpet = {**opts, "surfaces": _report_surfaces(res)}
+        if "temp_air" in res.data_vars:
+            plans.append(("carpet", {**carpet, "minus_air": True},
+                          f"{site}: {what} minus air temperature, day of year x hour{fin}"))
+        else:
+            plans.append(("carpet", carpet, f"{site}: {what} temperature, day of year x hour{fin}"))
         if "temp_sky_min" in res.data_vars and "temp_sol_air_min" in res.data_vars:
-            plans.append(("sky-spread", {"surfaces": _report_surfaces(res)[:2]},
+            plans.append(("sky-spread", {"surfaces": _report_surfaces(res)[:2], "finish": finish},
                           f"{site}: spread over the sky-temperature models"))
-        if "finish" in res.dims:
+        if "finish" in res.dims and not has_table:
             plans.append(("finishes", {}, f"{site}: finish comparison"))
     elif rtype == "metrics":
         plans.append(("finishes", {}, f"{name}: finish comparison"))
@@ -530,6 +593,7 @@ def build_report(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]], *,
     if not results:
         raise ConfigurationError("report: no result given")
     datasets = [(n, r) for n, r in results if isinstance(r, xr.Dataset)]
+    has_table = any(detect_result_type(r) == "metrics" for _, r in results)
     sites = list(dict.fromkeys(str(r.attrs.get("site_name", n)) for n, r in datasets))
     title = title or ("solair report: " + (", ".join(sites) if sites else "portfolio"))
     stamp = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
@@ -543,7 +607,7 @@ def build_report(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]], *,
         or "<p>No hourly result given (tables only).</p>",
         "models": _models_section(results),
         "tables": _tables_section(results),
-        "figures": "".join(f"<h3>{_e(n)}</h3>" + "".join(_figures_for(n, r, dpi))
+        "figures": "".join(f"<h3>{_e(n)}</h3>" + "".join(_figures_for(n, r, dpi, has_table))
                            for n, r in results),
         "cautions": "<ul>" + "".join(f"<li>{_e(c)}</li>" for c in _CAUTIONS) + "</ul>",
     }

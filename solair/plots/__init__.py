@@ -186,14 +186,15 @@ def draw(result: xr.Dataset | pd.DataFrame, kind: str, *,
             table = shaping.finish_metrics(result)
             site = str(result.attrs.get("site_name", ""))
         else:
-            table, site = result, ""
+            table, site = shaping.metrics_from_table(result), ""
         return figures.finishes_figure(table, site=site, surfaces=surfaces,
                                        metric_names=[metric] if metric else None)
     if metric is None:
         numeric = sorted(c for c in result.columns if c not in ("climate", "surface", "finish")
                          and pd.api.types.is_numeric_dtype(result[c]))
         raise ConfigurationError(f"plot kind 'portfolio' needs --metric, one of {numeric}")
-    return figures.portfolio_figure(result, metric, finish=finish, surfaces=surfaces)
+    return figures.portfolio_figure(shaping.metrics_from_table(result), metric, finish=finish,
+                                    surfaces=surfaces)
 
 
 def _unused(kind: str, **options: Any) -> None:

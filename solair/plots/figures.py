@@ -387,18 +387,21 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
     n_bars = len(finishes) * len(all_surfaces)
     for ax, metric in zip(axes, metric_names):
         top = 0.0
+        column = np.abs(metrics[metric].to_numpy(dtype=float))
+        largest = float(np.nanmax(column)) if np.isfinite(column).any() else 0.0
+        fmt = "%.0f" if largest >= 20 else ("%.1f" if largest >= 1 else "%.2g")
         for j, (fin, colour) in enumerate(zip(finishes, _colours(len(finishes)))):
             values = [float(table[metric].get((s, fin), np.nan)) for s in all_surfaces]
             bars = ax.bar(x - 0.4 + width * (j + 0.5), values, width=width * 0.92,
                           color=colour, label=fin)
             top = max(top, float(np.nanmax(np.abs(values))) if np.isfinite(values).any() else 0)
             if n_bars <= 16 and np.nanmax(np.abs(values)) > 0:
-                ax.bar_label(bars, fmt="%.0f", fontsize=8, padding=1)
+                ax.bar_label(bars, fmt=fmt, fontsize=8, padding=1)
         if top == 0.0:
             ax.set_ylim(0.0, 1.0)
             ax.text(0.5, 0.5, "zero for every surface and finish", transform=ax.transAxes,
                     ha="center", va="center", color="0.3")
-        label, unit = shaping.FINISH_METRICS.get(metric, (metric.replace("_", " "), ""))
+        label, unit = shaping.metric_label(metric)
         if metric == "peak_temperature" and basis:
             label = f"Peak {_SHORT_NAME.get(basis, basis).lower()}"
         if metric == "hours_below_dew_point" and basis:
@@ -452,7 +455,8 @@ def portfolio_figure(table: pd.DataFrame, metric: str, *, finish: str | None = N
             if np.isfinite(v):
                 ax.text(j, i, f"{v:.{digits}f}", ha="center", va="center", fontsize=8,
                         color="white" if v > mid else "black")
-    label = shaping.FINISH_METRICS.get(metric, (metric.replace("_", " "), ""))[0]
+    label, default_unit = shaping.metric_label(metric)
+    unit = unit or default_unit
     panel.colorbar(image, ax=ax, label=f"{label} [{unit}]" if unit else label, pad=0.01)
     chosen = finish if finish else (str(table["finish"].iloc[0]) if "finish" in table else "")
     panel.suptitle(f"{title + ': ' if title else ''}{label} per climate and surface"

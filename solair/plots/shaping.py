@@ -31,6 +31,8 @@ __all__ = [
     "finish_metrics",
     "FINISH_METRICS",
     "portfolio_grid",
+    "metrics_from_table",
+    "metric_label",
 ]
 
 DAYS_PER_YEAR = 365
@@ -351,3 +353,52 @@ def portfolio_grid(table: pd.DataFrame, metric: str, *, finish: str | None = Non
     surfaces = list(dict.fromkeys(table["surface"]))
     grid = table.pivot_table(index="climate", columns="surface", values=metric, aggfunc="mean")
     return grid.reindex(index=climates, columns=surfaces)
+
+
+_UNITS = {"kWh m-2": "kWh/m²", "kg m-2": "kg/m²", "W m-2": "W/m²", "K h": "K·h"}
+_COLUMN_TEXT = {"absorptance": ("Solar absorptance α of the finish", ""),
+                "emissivity": ("Thermal emissivity ε of the finish", ""),
+                "sri": ("Solar reflectance index, ASTM E1980-11", ""),
+                "u_value": ("Thermal transmittance of the construction", "W/(m²·K)")}
+
+
+def metric_label(name: str) -> tuple[str, str]:
+    """Readable label and unit of a metric column.
+
+    The names of :data:`FINISH_METRICS` first, then the columns of the compare
+    metrics table (:data:`solair.compare.METRIC_COLUMNS`, ``"text [unit]"``),
+    else the name itself without a unit.
+    """
+    if name in FINISH_METRICS:
+        return FINISH_METRICS[name]
+    if name in _COLUMN_TEXT:
+        return _COLUMN_TEXT[name]
+    try:
+        from solair.compare import METRIC_COLUMNS
+    except ImportError:  # pragma: no cover - the compare module is part of solair
+        METRIC_COLUMNS = {}
+    text = METRIC_COLUMNS.get(name)
+    if text:
+        match = re.match(r"^(.*?)\s*\[(.*)\]\s*$", text)
+        if match:
+            label, unit = match.group(1), match.group(2)
+            unit = _UNITS.get(unit, unit)
+            return label[:1].upper() + label[1:], ("" if unit == "-" else unit)
+        return text[:1].upper() + text[1:], ""
+    return name.replace("_", " "), ""
+
+
+def metrics_from_table(table: pd.DataFrame) -> pd.DataFrame:
+    """A compare metrics table (or batch summary) with the key metrics under the plot names.
+
+    Adds ``peak_temperature`` (= ``temp_surface_max``), ``hours_below_dew_point``
+    (= ``dew_hours`` + ``frost_hours``: the surface below the air dew point, above
+    or below 0 °C) and keeps ``heat_gain`` and every other column.
+    """
+    out = table.copy()
+    if "peak_temperature" not in out and "temp_surface_max" in out:
+        out["peak_temperature"] = out["temp_surface_max"]
+        out.attrs["variable"] = "temp_surface"
+    if "hours_below_dew_point" not in out and {"dew_hours", "frost_hours"} <= set(out.columns):
+        out["hours_below_dew_point"] = out["dew_hours"] + out["frost_hours"]
+    return out
