@@ -213,6 +213,7 @@ def compute_climate(path: str, settings: dict[str, Any], utc_offset: float | Non
     construction and model choices; keeps only the metric columns asked for.
     """
     import solair
+    from solair.compare import compare
     from solair.constructions import Construction, Layer
     from solair.finishes import Finish
 
@@ -224,45 +225,17 @@ def compute_climate(path: str, settings: dict[str, Any], utc_offset: float | Non
     if construction is not None:
         construction = Construction(**{**construction, "layers": tuple(
             Layer(**layer) for layer in construction["layers"])})
-    models = {k: v for k, v in settings["models"].items() if v is not None}
-    try:
-        from solair.compare import compare
-    except ImportError:
-        ds, metrics = _engine_only(weather, surfaces, finishes, models)
-    else:
-        ds, metrics = compare(weather, surfaces, finishes, construction=construction, **models)
+    options = {k: v for k, v in settings["models"].items() if v is not None}
+    threshold = settings.get("metrics", {}).get("threshold")
+    if threshold is not None:
+        options["threshold"] = threshold
+    ds, metrics = compare(weather, surfaces, finishes, construction=construction, **options)
     keep = settings.get("metrics", {}).get("keep") or []
     if keep:
-        metrics = metrics[[c for c in ("surface", "finish") if c in metrics.columns] + keep]
-    return ds, metrics
+        from solair.compare import METRIC_COLUMNS
 
-
-def _engine_only(weather, surfaces, finishes, models):
-    import numpy as np
-    import pandas as pd
-    import xarray as xr
-
-    from solair.engine import exterior_forcing, sol_air
-
-    forcing = exterior_forcing(weather, surfaces, **{k: v for k, v in models.items()
-                                                     if k in ("sky", "transposition",
-                                                              "convection", "albedo")})
-    names = [f.name for f in finishes]
-    alpha = xr.DataArray([f.absorptance for f in finishes], dims="finish",
-                         coords={"finish": names})
-    eps = xr.DataArray([f.emissivity for f in finishes], dims="finish", coords={"finish": names})
-    ds = sol_air(forcing, alpha, eps, linearisation=models.get("linearisation", "air"))
-    ds = ds.assign_coords(absorptance=alpha, emissivity=eps)
-    ds.attrs.update(forcing.attrs)
-    t = ds["temp_sol_air"].transpose("surface", "finish", "time").values
-    s_idx, f_idx = np.meshgrid(np.arange(t.shape[0]), np.arange(t.shape[1]), indexing="ij")
-    metrics = pd.DataFrame({
-        "surface": ds["surface"].values[s_idx.ravel()],
-        "finish": ds["finish"].values[f_idx.ravel()],
-        "temp_sol_air_max": t.max(axis=-1).ravel(),
-        "temp_sol_air_p99": np.percentile(t, 99, axis=-1).ravel(),
-        "temp_sol_air_mean": t.mean(axis=-1).ravel(),
-    })
+        ids = [c for c in metrics.columns if c not in METRIC_COLUMNS]
+        metrics = metrics[ids + [c for c in keep if c not in ids]]
     return ds, metrics
 
 

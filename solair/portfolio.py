@@ -153,20 +153,26 @@ class FinishEntry(_Strict):
 
 
 class ModelChoices(_Strict):
-    """Model choices passed to the engine and the finish comparison."""
+    """Model choices passed to the finish comparison; a key left out takes its default."""
 
-    sky: str = "auto"
-    transposition: str = "perez"
-    convection: str = "iso6946"
-    linearisation: str = "air"
-    response: str | None = None
+    sky: str | None = None
+    transposition: str | None = None
+    convection: str | None = None
+    linearisation: str | None = None
     albedo: float | None = Field(default=None, ge=0.0, le=1.0)
+    response: str | None = None
+    exterior: str | None = None
+    dew: bool | None = None
+    substeps: int | None = Field(default=None, ge=1, le=120)
+    temp_indoor: float | None = Field(default=None, ge=-30.0, le=60.0, description="[degC]")
 
 
 class MetricChoice(_Strict):
-    """Which metric columns to keep in the summary table (all when empty)."""
+    """Which metric columns to keep in the summary table (all when empty), and the threshold."""
 
     keep: list[str] = Field(default_factory=list)
+    threshold: float | None = Field(default=None, ge=-50.0, le=150.0,
+                                    description="[degC] for hours_above_threshold")
 
 
 class Portfolio(_Strict):
@@ -427,13 +433,25 @@ def _resolve(pf: Portfolio, output: str | os.PathLike | None) -> ResolvedPortfol
         "finishes": _resolve_finishes(pf, fname),
         "construction": _resolve_construction(pf, fname, base),
         "models": _resolve_models(pf, fname),
-        "metrics": {"keep": list(pf.metrics.keep)},
+        "metrics": _resolve_metrics(pf, fname),
+        "solair_version": _solair_version(),
     }
     out = Path(output) if output is not None else Path(pf.output)
     if not out.is_absolute():
         out = (Path.cwd() if output is not None else base) / out
-    return ResolvedPortfolio(name=pf.name, source=pf.source, output_dir=str(out),
+    return ResolvedPortfolio(name=pf.name, source=pf.source, output_dir=os.path.normpath(out),
                              climates=tuple(climates), settings=settings)
+
+
+def _solair_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("solair")
+    except PackageNotFoundError:  # pragma: no cover - running from a source tree
+        from solair import __version__
+
+        return __version__
 
 
 def _safe_label(stem: str) -> str:
@@ -502,7 +520,7 @@ def _resolve_finishes(pf: Portfolio, fname: str) -> list[dict[str, Any]]:
         else:
             try:
                 finish = Finish(name=f.name, absorptance=f.absorptance, emissivity=f.emissivity,
-                                label=f.name, source=f"portfolio file {fname}")
+                                label=f.name, source="given inline in the portfolio file")
             except ConfigurationError as exc:
                 raise ConfigurationError(f"{here}: {exc}") from None
         out.append(dataclasses.asdict(finish))
@@ -530,41 +548,40 @@ def _resolve_models(pf: Portfolio, fname: str) -> dict[str, Any]:
     m = pf.models.model_dump()
     for key, allowed in _allowed_models().items():
         value = m.get(key)
-        if value is None or allowed is None:
-            continue
-        if value not in allowed:
+        if value is not None and value not in allowed:
             raise ConfigurationError(
                 f"{fname}: models.{key} = {value!r}: not one of {sorted(allowed)}")
+    if m.get("response") in ("steady", "transient") and pf.construction is None:
+        raise ConfigurationError(
+            f"{fname}: models.response = {m['response']!r}: needs a construction; give "
+            f"`construction = ...` or use response = 'massless'")
     return m
 
 
-def _allowed_models() -> dict[str, frozenset[str] | None]:
+def _resolve_metrics(pf: Portfolio, fname: str) -> dict[str, Any]:
+    from solair.compare import METRIC_COLUMNS
+
+    for i, name in enumerate(pf.metrics.keep):
+        if name not in METRIC_COLUMNS:
+            raise ConfigurationError(
+                f"{fname}: metrics.keep[{i}] = {name!r}: not a metric; allowed: "
+                f"{sorted(METRIC_COLUMNS)}")
+    return pf.metrics.model_dump()
+
+
+def _allowed_models() -> dict[str, frozenset[str]]:
     """Allowed model names, taken from the modules that implement them."""
-    out: dict[str, frozenset[str] | None] = {"linearisation": frozenset({"air", "surface"})}
-    try:
-        from solair.sky import CLEAR_SKY_MODELS
+    from solair.balance import LINEARISATIONS
+    from solair.convection import CONVECTION_MODELS
+    from solair.engine import sky_models
+    from solair.response import EXTERIOR_MODELS, RESPONSE_MODELS
+    from solair.sun import TRANSPOSITION_MODELS
 
-        out["sky"] = frozenset({"auto", "infrared", *CLEAR_SKY_MODELS})
-    except ImportError:
-        out["sky"] = None
-    try:
-        from solair.convection import CONVECTION_MODELS
-
-        out["convection"] = frozenset(CONVECTION_MODELS)
-    except ImportError:
-        out["convection"] = None
-    try:
-        from solair import sun
-
-        models = getattr(sun, "TRANSPOSITION_MODELS", None)
-        out["transposition"] = frozenset(models) if models else None
-    except ImportError:
-        out["transposition"] = None
-    try:
-        from solair import response
-
-        models = getattr(response, "RESPONSE_MODELS", None)
-        out["response"] = frozenset(models) if models else None
-    except ImportError:
-        out["response"] = None
-    return out
+    return {
+        "sky": sky_models(),
+        "transposition": frozenset(TRANSPOSITION_MODELS),
+        "convection": frozenset(CONVECTION_MODELS),
+        "linearisation": frozenset(LINEARISATIONS),
+        "response": frozenset(RESPONSE_MODELS),
+        "exterior": frozenset(EXTERIOR_MODELS),
+    }

@@ -69,8 +69,9 @@ def test_base_portfolio_resolves(folder):
     assert [c.label for c in res.climates] == ["greensboro", "north_site-sand_point"]
     assert res.climates[1].path == str(folder / "alaska" / "sand_point.csv")
     assert res.output_dir == str(folder / "out")
-    assert res.settings["finishes"] == [
-        {"name": "client_grey", "absorptance": 0.65, "emissivity": 0.9, "catalogue": False}]
+    (finish,) = res.settings["finishes"]
+    assert (finish["name"], finish["absorptance"], finish["emissivity"]) == ("client_grey", 0.65,
+                                                                              0.9)
     assert res.settings["surfaces"] == [
         {"name": "roof", "surface_tilt": 0.0, "surface_azimuth": 180.0}]
 
@@ -108,7 +109,7 @@ def test_unknown_token(folder):
         # unknown key (a typo) in a climate entry: named by its label, with the allowed keys
         ('label = "north_site"', 'label = "north_site"\nlable = "x"',
          r'climates\[1\] \("north_site"\)\.lable = \'x\': unknown key; allowed keys: '
-         r"\['label', 'path'\]"),
+         r"\['label', 'path', 'utc_offset'\]"),
         # unknown top-level key
         ('name = "test"', 'name = "test"\noutptu = "x"', r"outptu = 'x': unknown key"),
         # unknown key in a nested table

@@ -1,0 +1,197 @@
+"""Benchmark of portfolio runs: throughput, parallel efficiency and worker memory.
+
+200 climate-years (synthetic variants of the real NREL TMY3 files installed with pvlib:
+Greensboro NC and Sand Point AK, with shifted temperatures and scaled irradiance and wind)
+x 17 surfaces (the horizontal, tilts 30 and 90 degrees at 8 azimuths) x 4 catalogue finishes.
+
+Prints, in one run:
+
+* the time per climate-year of each stage in-process (read, compute, write);
+* throughput [climate-years/s] with 1 and 2 local worker processes, and the parallel
+  efficiency T1 / (2 T2);
+* the peak RSS per worker process after 50 and after 200 climates (fresh clusters).
+
+Targets (issue 5): efficiency >= 85 %; peak RSS per worker flat within 10 % from 50 to 200
+climates; >= 15 climate-years/s on the 2-core machine.
+
+Usage::
+
+    python benchmarks/bench_batch.py [--climates 200] [--response NAME] [--keep-files]
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import logging
+import shutil
+import sys
+import tempfile
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+FINISHES = ["black_membrane", "white_single_ply_membrane", "grey_concrete", "galvanised_steel"]
+
+
+def tmy3_variant(src: Path, dst: Path, d_temp: float, irradiance: float, wind: float) -> None:
+    """Copy a TMY3 file with shifted temperatures and scaled irradiance and wind."""
+    with open(src, newline="", encoding="utf-8") as fh:
+        head = fh.readline()
+        df = pd.read_csv(fh, dtype=str, keep_default_na=False)
+    for col in ("Dry-bulb (C)", "Dew-point (C)"):
+        df[col] = (df[col].astype(float) + d_temp).round(1).astype(str)
+    for col in ("GHI (W/m^2)", "DNI (W/m^2)", "DHI (W/m^2)"):
+        df[col] = (df[col].astype(float) * irradiance).round(0).astype(int).astype(str)
+    df["Wspd (m/s)"] = (df["Wspd (m/s)"].astype(float) * wind).round(1).astype(str)
+    with open(dst, "w", newline="", encoding="utf-8") as fh:
+        fh.write(head)
+        df.to_csv(fh, index=False, lineterminator="\n")
+
+
+def make_climates(folder: Path, n: int) -> list[Path]:
+    import pvlib
+
+    data = Path(pvlib.__path__[0]) / "data"
+    sources = [data / "723170TYA.CSV", data / "703165TY.csv"]
+    rng = np.random.default_rng(20261201)
+    out = []
+    for i in range(n):
+        dst = folder / f"variant_{i:03d}.csv"
+        if not dst.exists():
+            tmy3_variant(sources[i % 2], dst, d_temp=round(float(rng.uniform(-3, 3)), 1),
+                         irradiance=round(float(rng.uniform(0.85, 1.0)), 3),
+                         wind=round(float(rng.uniform(0.8, 1.3)), 2))
+        out.append(dst)
+    return out
+
+
+def portfolio(climates: list[Path], out: Path, response: str | None):
+    from solair.portfolio import portfolio_from_dict
+
+    models = {} if response is None else {"response": response}
+    pf = portfolio_from_dict({
+        "name": "bench",
+        "climates": [{"path": str(p)} for p in climates],
+        "surfaces": {"set": "orientations_17"},
+        "finishes": [{"name": f} for f in FINISHES],
+        "models": models,
+    }, source=str(out / "bench.toml"))
+    return pf.resolve(out)
+
+
+def stage_times(climates: list[Path], response: str | None, tmp: Path) -> dict[str, float]:
+    """Median seconds per climate of read / compute / write, in-process."""
+    import solair
+    from solair import batch
+
+    res = portfolio(climates, tmp, response)
+    settings = res.settings
+    times: dict[str, list[float]] = {"read": [], "compute (incl. read)": [], "write NetCDF": [],
+                                     "whole task": []}
+    (tmp / "climates").mkdir(parents=True, exist_ok=True)
+    for path in climates:
+        t0 = time.perf_counter()
+        solair.read_weather(path)
+        times["read"].append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        ds, _ = batch.compute_climate(str(path), settings)
+        times["compute (incl. read)"].append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        batch._write_netcdf(ds, tmp / "climates" / "x.nc")
+        times["write NetCDF"].append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        batch.run_climate({"label": "x", "path": str(path), "out_dir": str(tmp),
+                           "settings": settings, "config_hash": "bench"})
+        times["whole task"].append(time.perf_counter() - t0)
+    return {k: float(np.median(v)) for k, v in times.items()}
+
+
+def run_on_cluster(climates: list[Path], n_workers: int, out: Path, response: str | None):
+    """Wall time of run_portfolio on a fresh LocalCluster (start-up excluded) and peak RSS."""
+    from distributed import Client, LocalCluster
+
+    from solair.batch import run_portfolio
+
+    res = portfolio(climates, out, response)
+    with LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
+                      dashboard_address=None, silence_logs=logging.ERROR) as cluster, \
+            Client(cluster) as client:
+        client.run(_warm_up)
+        t0 = time.perf_counter()
+        result = run_portfolio(res, scheduler=cluster.scheduler_address, force=True)
+        wall = time.perf_counter() - t0
+        rss = client.run(_peak_rss_mib)
+    if result.failed:
+        raise SystemExit(f"benchmark run failed: {result.failed[0]}")
+    return wall, sorted(rss.values())
+
+
+def _warm_up() -> None:
+    import importlib
+
+    for module in ("solair.engine", "solair.compare", "solair.batch"):  # imports paid before
+        with contextlib.suppress(ImportError):                          # timing, as on a
+            importlib.import_module(module)                             # long-lived worker
+
+
+def _peak_rss_mib() -> float:
+    import resource
+
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
+def main(argv: list[str] | None = None) -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--climates", type=int, default=200)
+    ap.add_argument("--small", type=int, default=50, help="climates of the first memory point")
+    ap.add_argument("--response", default=None, help="response model passed to compare()")
+    ap.add_argument("--keep-files", action="store_true")
+    ap.add_argument("--weather-dir", default=None,
+                    help="folder to generate (or reuse) the weather variants in")
+    args = ap.parse_args(argv)
+    warnings.simplefilter("ignore")
+
+    tmp = Path(tempfile.mkdtemp(prefix="solair-bench-batch-"))
+    try:
+        t0 = time.perf_counter()
+        weather = Path(args.weather_dir) if args.weather_dir else tmp / "weather"
+        weather.mkdir(parents=True, exist_ok=True)
+        climates = make_climates(weather, args.climates)
+        print(f"generated {len(climates)} climate-years in {time.perf_counter() - t0:.1f} s "
+              f"(17 surfaces x {len(FINISHES)} finishes each; response={args.response})")
+
+        stages = stage_times(climates[:4], args.response, tmp / "stages")
+        print("\nper climate-year, in-process (median of 4):")
+        for k, v in stages.items():
+            print(f"  {k:<22} {v * 1000:8.0f} ms")
+
+        n = len(climates)
+        t1, rss1 = run_on_cluster(climates, 1, tmp / "w1", args.response)
+        t2, rss2 = run_on_cluster(climates, 2, tmp / "w2", args.response)
+        small, rss_small = run_on_cluster(climates[:args.small], 2, tmp / "w2s", args.response)
+        eff = t1 / (2 * t2)
+        print(f"\n{n} climate-years x 17 surfaces x {len(FINISHES)} finishes "
+              f"(cluster start-up excluded):")
+        print(f"  1 worker : {t1:7.1f} s  {n / t1:6.2f} climate-years/s")
+        print(f"  2 workers: {t2:7.1f} s  {n / t2:6.2f} climate-years/s   (target >= 15)")
+        print(f"  parallel efficiency T1/(2 T2): {eff * 100:5.1f} %   (target >= 85 %)")
+        print("\npeak RSS per worker process [MiB] (2 workers):")
+        print(f"  after {args.small:3d} climates: {', '.join(f'{r:.0f}' for r in rss_small)}")
+        print(f"  after {n:3d} climates: {', '.join(f'{r:.0f}' for r in rss2)}")
+        growth = max(rss2) / max(rss_small) - 1.0
+        print(f"  growth {args.small} -> {n}: {growth * 100:+.1f} %   (target within 10 %)")
+        print(f"  1-worker run, after {n}: {', '.join(f'{r:.0f}' for r in rss1)}")
+    finally:
+        if args.keep_files:
+            print(f"\nfiles kept in {tmp}")
+        else:
+            with contextlib.suppress(OSError):
+                shutil.rmtree(tmp)
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
