@@ -206,3 +206,37 @@ def test_assert_finite_names_the_variable():
                                              dtype="datetime64[ns]")})
     with pytest.raises(ConfigurationError, match="temp_sol_air is not finite in 1 values"):
         engine._assert_finite(ds)
+
+
+def test_every_model_choice_runs_and_stays_finite(greensboro_weather, era_weather):
+    # Smoke test of the wiring: every sky, transposition, convection and linearisation
+    # choice gives finite results on real data (Greensboro TMY3; ERA EPW for the infrared).
+    s = [Surface("roof", 0, 180, 0.7, 0.9), Surface("E", 90, 90, 0.7, 0.9)]
+    runs = [dict(sky=m) for m in sorted(engine.sky_models()) if m != "infrared"]
+    runs += [dict(transposition=m) for m in ("isotropic", "haydavies")]
+    runs += [dict(convection=m) for m in ("iso6946_conventional", "yazdanian_klems", "walton")]
+    runs += [dict(linearisation="surface"), dict(sky_air_split=True, temp_ground=5.0),
+             dict(terrain="city", height=6.0)]
+    for kw in runs:
+        ds = solair.compute(greensboro_weather, s, **kw)
+        assert np.isfinite(ds["temp_sol_air"].values).all(), kw
+    ds = solair.compute(era_weather, s, sky="infrared")
+    assert ds.attrs["sky_source_hours_file_infrared"] > 8000
+    with pytest.raises(ConfigurationError, match="infrared"):
+        solair.compute(greensboro_weather, s, sky="infrared")
+
+
+def test_surface_linearisation_is_the_adiabatic_surface_temperature(greensboro_weather):
+    # "surface" mode: T_eq is the massless adiabatic surface temperature, i.e. the surface
+    # balance residual vanishes there (ASTM E1980-11 surface balance, solved to 1e-6 K).
+    from solair import balance
+
+    f = solair.exterior_forcing(greensboro_weather, [Surface("roof", 0, 180)])
+    res = engine.sol_air(f, 0.9, 0.9, linearisation="surface")
+    t = res["temp_sol_air"].values[:, 0]
+    r = balance.surface_balance_residual(
+        t, f["temp_air"].values, f["poa_global"].values[:, 0], 0.9, 0.9,
+        f["h_conv"].values[:, 0], f["temp_sky"].values, temp_ground=f["temp_air"].values,
+        view_sky=1.0, view_air=0.0, view_ground=0.0,
+    )
+    assert np.abs(r).max() < 1e-3  # W/m2, i.e. well inside 1e-6 K x h_e
