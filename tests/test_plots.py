@@ -486,3 +486,84 @@ def test_cli_plot_from_a_real_run(tmp_path):
                                    "-o", str(out)])
     assert res.exit_code == 0, res.output
     assert png_size(out.read_bytes())[0] == 450
+
+
+@functools.lru_cache(maxsize=1)
+def greensboro_compare_files() -> tuple[Path, Path]:
+    """solair.compare on Greensboro TMY3: 2 surfaces x 2 catalogue finishes, massless response."""
+    import pvlib
+
+    import solair
+    from solair.compare import compare
+    from solair.output import write_result
+    from solair.surfaces import Surface
+
+    weather = solair.read_weather(Path(pvlib.__path__[0]) / "data" / "723170TYA.CSV")
+    ds, table = compare(weather, [Surface("roof", 0.0, 180.0), Surface("S", 90.0, 180.0)],
+                        ["white_single_ply_membrane", "black_membrane"],
+                        "insulated_membrane_roof", response="massless")
+    folder = Path(tempfile.mkdtemp(prefix="solair-plots-"))
+    table_path = folder / "greensboro_metrics.csv"
+    table.to_csv(table_path, index=False)
+    return write_result(ds, folder / "greensboro_finishes.nc"), table_path
+
+
+@functools.lru_cache(maxsize=1)
+def portfolio_files() -> tuple[Path, Path]:
+    """`solair batch` (serial) over Greensboro and Sand Point TMY3 (NREL, shipped with pvlib)."""
+    import pvlib
+
+    data = Path(pvlib.__path__[0]) / "data"
+    folder = Path(tempfile.mkdtemp(prefix="solair-batch-"))
+    (folder / "p.toml").write_text(
+        'name = "plots_check"\noutput = "out"\nconstruction = "metal_deck_roof"\n'
+        f'[[climates]]\npath = "{(data / "723170TYA.CSV").as_posix()}"\nlabel = "piedmont"\n'
+        f'[[climates]]\npath = "{(data / "703165TY.csv").as_posix()}"\nlabel = "north_site"\n'
+        '[surfaces]\nset = "none"\n'
+        '[[surfaces.custom]]\nname = "roof"\nsurface_tilt = 0\nsurface_azimuth = 180\n'
+        '[[surfaces.custom]]\nname = "S"\nsurface_tilt = 90\nsurface_azimuth = 180\n'
+        '[[finishes]]\nname = "dark_bitumen"\n[[finishes]]\nname = "white_single_ply_membrane"\n'
+        '[models]\nresponse = "massless"\n', encoding="utf-8")
+    res = CliRunner().invoke(cli, ["batch", str(folder / "p.toml"), "--workers", "0"])
+    assert res.exit_code == 0, res.output
+    return folder / "out" / "summary.csv", folder / "out" / "climates" / "piedmont.nc"
+
+
+@pytest.mark.parametrize("kind, opts", [
+    ("finishes", {}), ("carpet", {"variable": "temp_surface", "finish": "black_membrane"}),
+    ("duration", {"variable": "temp_surface"}), ("monthly", {"finish": "black_membrane"})])
+def test_each_kind_renders_from_the_greensboro_compare(kind, opts):
+    nc, table = greensboro_compare_files()
+    ds = plots.load_result(nc)
+    assert plots.detect_result_type(ds) == "compare"
+    assert png_size(plots.figure_png(plots.draw(ds, kind, **opts), dpi=60))[0] == 450
+    if kind == "finishes":
+        metrics = plots.load_result(table)
+        assert plots.detect_result_type(metrics) == "metrics"
+        assert png_size(plots.figure_png(plots.draw(metrics, kind), dpi=60))[0] == 450
+
+
+def test_recomputed_metrics_agree_with_the_compare_table():
+    """Peak and heat gain recomputed from the hourly NetCDF equal compare's own table."""
+    nc, table = greensboro_compare_files()
+    mine = shaping.finish_metrics(plots.load_result(nc)).set_index(["surface", "finish"])
+    theirs = shaping.metrics_from_table(pd.read_csv(table)).set_index(["surface", "finish"])
+    assert_allclose(mine["peak_temperature"], theirs.loc[mine.index, "peak_temperature"],
+                    atol=1e-4)
+    assert_allclose(mine["heat_gain"], theirs.loc[mine.index, "heat_gain"], atol=1e-3)
+
+
+def test_portfolio_and_batch_climate_render_from_a_real_batch():
+    summary_path, climate_nc = portfolio_files()
+    summary = plots.load_result(summary_path)
+    assert plots.detect_result_type(summary) == "summary"
+    grid = shaping.portfolio_grid(shaping.metrics_from_table(summary), "hours_below_dew_point",
+                                  finish="dark_bitumen")
+    assert list(grid.index) == ["piedmont", "north_site"] and list(grid.columns) == ["roof", "S"]
+    for metric in ("temp_surface_max", "hours_below_dew_point"):
+        fig = plots.draw(summary, "portfolio", metric=metric, finish="dark_bitumen")
+        assert png_size(plots.figure_png(fig, dpi=60))[0] == 450
+    ds = plots.load_result(climate_nc)
+    assert plots.detect_result_type(ds) == "batch"
+    for kind in ("finishes", "carpet", "monthly"):
+        assert png_size(plots.figure_png(plots.draw(ds, kind), dpi=60))[0] == 450

@@ -457,7 +457,7 @@ def portfolio_figure(table: pd.DataFrame, metric: str, *, finish: str | None = N
                         color="white" if v > mid else "black")
     label, default_unit = shaping.metric_label(metric)
     unit = unit or default_unit
-    panel.colorbar(image, ax=ax, label=f"{label} [{unit}]" if unit else label, pad=0.01)
+    panel.colorbar(image, ax=ax, label=f"[{unit}]" if unit else "", pad=0.01)
     chosen = finish if finish else (str(table["finish"].iloc[0]) if "finish" in table else "")
     panel.suptitle(f"{title + ': ' if title else ''}{label} per climate and surface"
                  f"{_finish_suffix(chosen)}", x=0.01, ha="left")
