@@ -257,6 +257,11 @@ def exterior_forcing(
         raise ConfigurationError(
             f"surface roughness {roughness!r} is not one of {sorted(_convection.ROUGHNESS_WALTON)}"
         )
+    if solar_position_method not in sun.SOLAR_POSITION_METHODS:
+        raise ConfigurationError(
+            f"solar position method {solar_position_method!r} is not one of "
+            f"{sorted(sun.SOLAR_POSITION_METHODS)}"
+        )
     surfaces = check_unique_names(default_surfaces() if surfaces is None else surfaces)
     albedo_fixed = None if albedo is None else _fraction(albedo, "albedo")
     w = _as_weather(weather)
@@ -325,7 +330,13 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
     if temp_ground is None:
         tg, ground_source = ta, "air temperature"
     else:
-        tg = np.broadcast_to(np.asarray(temp_ground, dtype=float), (n,)).astype(float)
+        try:
+            tg = np.broadcast_to(np.asarray(temp_ground, dtype=float), (n,)).astype(float)
+        except ValueError:
+            raise ConfigurationError(
+                f"temp_ground must be one number or one value per hour ({n}), got shape "
+                f"{np.shape(temp_ground)}"
+            ) from None
         ground_source = "user value"
         if not np.all(np.isfinite(tg)) or np.any((tg < -90) | (tg > 90)):
             raise ConfigurationError("temp_ground must be finite and within [-90, 90] °C")
