@@ -351,6 +351,8 @@ def _models_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
         for tok in _model_tokens(res.attrs):
             if tok not in tokens:
                 tokens.append(tok)
+        if "sri" in res.coords and "sri" not in tokens:
+            tokens.append("sri")
         if "temp_sky_min" in res.data_vars:  # the spread runs every clear-sky correlation
             for tok in _clear_sky_names():
                 if tok in MODEL_SOURCES and tok not in tokens:

@@ -15,7 +15,14 @@ import pandas as pd
 import pytest
 from click.testing import CliRunner
 from numpy.testing import assert_allclose
-from test_plots import PNG_SIGNATURE, greensboro_run_file, hand_made_run, png_size
+from test_plots import (
+    PNG_SIGNATURE,
+    greensboro_compare_files,
+    greensboro_run_file,
+    hand_made_run,
+    png_size,
+    portfolio_files,
+)
 
 from solair import report
 from solair.cli import cli
@@ -185,3 +192,23 @@ def test_design_values_agree_with_solair_output(greensboro_page):
                         theirs.loc[surface, "temp_sol_air_p99 (°C)"], atol=1e-9)
         assert_allclose(mine.loc[surface, "exceeded 99 % of hours"],
                         theirs.loc[surface, "temp_sol_air_p01 (°C)"], atol=1e-9)
+
+
+@pytest.mark.slow
+def test_report_of_real_compare_and_batch_outputs(tmp_path):
+    """run + compare (NetCDF and metrics CSV) + batch summary in one self-contained page."""
+    nc, table = greensboro_compare_files()
+    summary, _ = portfolio_files()
+    out = report.write_report([greensboro_run_file(), nc, table, summary], tmp_path / "all.html",
+                              dpi=50)
+    page = out.read_text(encoding="utf-8")
+    assert_self_contained(page)
+    for key in report.SECTIONS:
+        assert f'<section id="{key}">' in page
+    images = embedded_pngs(page)
+    # run 4, compare 3 (+ finishes from its table), summary: 2 metrics x 2 finishes
+    assert len(images) == 4 + 3 + 1 + 4
+    assert all(data[:8] == PNG_SIGNATURE for data in images)
+    assert "insulated_membrane_roof" in page  # the construction behind the finishes
+    assert html.escape(report.MODEL_SOURCES["sri"]) in page
+    assert "Portfolio summary" in page and "piedmont" in page
