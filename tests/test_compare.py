@@ -1,0 +1,181 @@
+"""Finish comparison on the real Greensboro NC TMY3 (NREL, shipped with pvlib).
+
+Physical orderings a correct model must show on real weather: a dark finish runs
+hotter than a white one; a low-emissivity metal spends fewer hours below the
+dew point than a high-emissivity render of the same absorptance (less long-wave
+loss to the night sky: Krus, Fitz & Holm, coatings with lowered long-wave
+emission; Zillig et al. 2003); the latent heat of dew reduces night undercooling
+(latent heat release, ASHRAE HoF 2017 ch. 6); a heavier construction has a
+smaller daily surface temperature range (thermal mass, ISO 13786:2017).
+Plus the result contract of docs/architecture.md and the command line.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+from click.testing import CliRunner
+from numpy.testing import assert_allclose
+
+import solair
+from solair.cli import cli
+from solair.compare import CAUTION, compare
+from solair.finishes import FINISHES, Finish, get_finish
+
+ROOF = solair.Surface("roof", 0.0, 180.0)
+NORTH = solair.Surface("north", 90.0, 0.0)
+# a high-emissivity render with the absorptance of bare galvanised steel
+RENDER_SAME_ALPHA = Finish("render_same_alpha", FINISHES["galvanised_steel"].absorptance, 0.90,
+                           source="test: alpha of galvanised_steel, render emissivity")
+
+
+@pytest.fixture(scope="module")
+def result(greensboro_weather):
+    fins = ["black_membrane", "white_single_ply_membrane", FINISHES["galvanised_steel"],
+            RENDER_SAME_ALPHA, "vegetated_roof"]
+    return compare(greensboro_weather, [ROOF, NORTH], fins, "metal_deck_roof")
+
+
+def _row(df, surface, finish):
+    return df[(df.surface == surface) & (df.finish == finish)].iloc[0]
+
+
+def test_dark_finish_peaks_above_white(result):
+    _, df = result
+    for s in ("roof", "north"):
+        assert (_row(df, s, "black_membrane").temp_surface_max
+                > _row(df, s, "white_single_ply_membrane").temp_surface_max + 5)
+    roof_black = _row(df, "roof", "black_membrane")
+    assert roof_black.temp_surface_max > 60 and roof_black.hours_above_threshold > 0
+    assert roof_black.heat_gain > _row(df, "roof", "white_single_ply_membrane").heat_gain
+
+
+def test_low_emissivity_metal_fewer_hours_below_dew_point(result):
+    _, df = result
+    for s in ("roof", "north"):
+        metal = _row(df, s, "galvanised_steel")
+        render = _row(df, s, "render_same_alpha")
+        assert metal.dew_hours + metal.frost_hours < render.dew_hours + render.frost_hours
+        assert metal.condensate_total < render.condensate_total
+
+
+def test_latent_heat_of_dew_reduces_undercooling(greensboro_weather):
+    kw = {"response": "massless"}
+    fins = ["white_render", "dark_render"]
+    _, with_dew = compare(greensboro_weather, [ROOF, NORTH], fins, dew=True, **kw)
+    _, without = compare(greensboro_weather, [ROOF, NORTH], fins, dew=False, **kw)
+    assert np.all(with_dew.undercooling_degree_hours.values
+                  < without.undercooling_degree_hours.values)
+    assert np.all(with_dew.undercooling_hours.values <= without.undercooling_hours.values)
+    assert np.all(with_dew.condensate_total > 1.0) and np.all(without.condensate_total == 0)
+
+
+def test_heavier_construction_smaller_daily_range(greensboro_weather):
+    _, light = compare(greensboro_weather, [ROOF], ["grey_concrete"], "metal_deck_roof")
+    _, heavy = compare(greensboro_weather, [ROOF], ["grey_concrete"], "heavy_concrete_roof")
+    assert heavy.daily_range_max.iloc[0] < light.daily_range_max.iloc[0] - 5
+    assert heavy.temp_surface_max.iloc[0] < light.temp_surface_max.iloc[0]
+
+
+def test_result_contract(result):
+    ds, df = result
+    assert ds["temp_surface"].dims == ("time", "surface", "finish")
+    assert ds.sizes == {"time": 8760, "surface": 2, "finish": 5}
+    for name in ("temp_surface", "heat_flux", "temp_sol_air", "condensate"):
+        assert ds[name].attrs["units"] and ds[name].attrs["long_name"]
+    assert ds["absorptance"].dims == ("finish",) and ds["emissivity"].dims == ("finish",)
+    assert ds["surface_tilt"].dims == ("surface",)
+    for key in ("solair_version", "pvlib_version", "weather_file", "site_name", "latitude",
+                "longitude", "altitude", "utc_offset_hours", "time_convention",
+                "response_model", "construction"):
+        assert key in ds.attrs, key
+    assert ds.attrs["caution"] == CAUTION
+    assert "evapotranspiration" in ds.attrs["notes"]
+    assert len(df) == 10
+    assert_allclose(df.sri[df.finish == "black_membrane"], -1.0, atol=0.1)
+    assert not df.select_dtypes("number").isna().any().any()
+    assert np.isfinite(ds["temp_surface"].values).all()
+    assert (ds["condensate"].values >= 0).all()
+
+
+def test_massless_default_equals_surface_mode_sol_air(greensboro_weather):
+    ds, _ = compare(greensboro_weather, [ROOF], ["black_membrane"], dew=False)
+    assert ds.attrs["response_model"] == "massless"
+    assert_allclose(ds["temp_surface"].values, ds["temp_sol_air"].values, atol=1e-12)
+
+
+def test_steady_response_heat_flux(greensboro_weather):
+    ds, df = compare(greensboro_weather, [ROOF], ["white_render"], "etics_wall",
+                     response="steady", dew=False)
+    r = get_finish("white_render")
+    assert r.name == "white_render"
+    q, ts = ds["heat_flux"].values[:, 0, 0], ds["temp_surface"].values[:, 0, 0]
+    assert np.all(np.sign(q) == np.sign(ts - 20.0))
+    assert_allclose(df.heat_gain.iloc[0], np.maximum(q, 0).sum() / 1000)
+
+
+def test_unknown_names(greensboro_weather):
+    with pytest.raises(solair.ConfigurationError, match="finish 'gold' is not one of"):
+        compare(greensboro_weather, [ROOF], ["gold"])
+    with pytest.raises(solair.ConfigurationError, match="construction 'igloo' is not one of"):
+        compare(greensboro_weather, [ROOF], ["white_render"], "igloo")
+    with pytest.raises(solair.ConfigurationError, match="response 'steady' needs a construction"):
+        compare(greensboro_weather, [ROOF], ["white_render"], response="steady")
+
+
+# ---------------------------------------------------------------- command line
+
+
+def test_cli_compare_writes_table_and_hourly(greensboro_path, tmp_path):
+    out, nc = tmp_path / "t.csv", tmp_path / "h.nc"
+    res = CliRunner().invoke(cli, [
+        "compare", str(greensboro_path), "--finish", "black_membrane", "--finish",
+        "white_single_ply_membrane_aged", "--surface", "roof,0,180", "--response", "massless",
+        "-o", str(out), "--hourly", str(nc)])
+    assert res.exit_code == 0, res.output
+    assert "caution: " + CAUTION in res.output
+    table = pd.read_csv(out)
+    assert list(table.finish) == ["black_membrane", "white_single_ply_membrane_aged"]
+    assert {"sri", "temp_surface_max", "dew_hours", "heat_gain"} <= set(table.columns)
+    ds = xr.open_dataset(nc, engine="h5netcdf")
+    assert ds["temp_surface"].dims == ("time", "surface", "finish")
+    ds.close()
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (["--finish", "gold"], "finish 'gold' is not one of"),
+    (["--finish", "white_render", "--construction", "igloo"], "construction 'igloo' is not one of"),
+    ([], "give at least one --finish"),
+    (["--finish", "white_render", "--response", "fast"], "Invalid value for '--response'"),
+])
+def test_cli_errors_exit_2_with_one_line(greensboro_path, tmp_path, args, message):
+    res = CliRunner().invoke(cli, ["compare", str(greensboro_path), *args, "-o",
+                                   str(tmp_path / "t.csv")])
+    assert res.exit_code == 2
+    assert message in res.output
+    assert len(res.output.strip().splitlines()) == 1
+    assert not (tmp_path / "t.csv").exists()
+
+
+def test_cli_bad_construction_and_finish_files(greensboro_path, tmp_path):
+    cons = tmp_path / "wall.toml"
+    cons.write_text('[constructions.thin]\n[[constructions.thin.layers]]\nname = "skin"\n'
+                    'thickness = -0.01\nconductivity = 1.0\ndensity = 1000\n'
+                    'specific_heat = 1000\n', encoding="utf-8")
+    res = CliRunner().invoke(cli, ["compare", str(greensboro_path), "--finish", "white_render",
+                                   "--construction", str(cons), "-o", str(tmp_path / "t.csv")])
+    assert res.exit_code == 2
+    assert "construction 'thin', layer 'skin': thickness = -0.01 must be > 0" in res.output
+    cons.write_text(cons.read_text().replace("thickness = -0.01\nconductivity = 1.0",
+                                             "thickness = 0.1\nconductivity = 0"))
+    res = CliRunner().invoke(cli, ["compare", str(greensboro_path), "--finish", "white_render",
+                                   "--construction", str(cons), "-o", str(tmp_path / "t.csv")])
+    assert res.exit_code == 2 and "conductivity = 0 must be > 0" in res.output
+    fin = tmp_path / "f.toml"
+    fin.write_text("[finishes.shiny]\nabsorptance = 0.3\nemissivity = 1.5\n", encoding="utf-8")
+    res = CliRunner().invoke(cli, ["compare", str(greensboro_path), "--finish", "shiny",
+                                   "--finish-file", str(fin), "-o", str(tmp_path / "t.csv")])
+    assert res.exit_code == 2
+    assert "f.toml: finish 'shiny': emissivity = 1.5 is outside [0, 1]" in res.output
