@@ -11,6 +11,8 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from solair.errors import WeatherFileError
@@ -206,3 +208,38 @@ def test_real_irradiance_below_the_extraterrestrial_limit(greensboro_weather):
     e0h, _, _ = extraterrestrial_horizontal(w.data.index, w.site.latitude, w.site.longitude)
     assert (w.data["ghi"] <= 1.1 * e0h + 30.0).all()
     assert (w.data["ghi"] <= e0h + 30.0).mean() > 0.999
+
+
+@settings(max_examples=60, deadline=None)
+@given(gaps=st.lists(st.tuples(st.integers(1, 8700), st.integers(1, MAX_GAP_HOURS)),
+                     min_size=1, max_size=8))
+def test_fill_short_gaps_property(gaps):
+    """Property (common practice): linear fills stay between the gap's neighbours and are
+    counted exactly; irradiance fills are never negative."""
+    from solair.weather.validate import _fill_short_gaps
+
+    rng = np.random.default_rng(0)
+    temp = 10 + 8 * np.sin(np.arange(8760) * 2 * np.pi / 24) + rng.normal(0, 1, 8760)
+    ghi = np.clip(600 * np.sin(np.arange(8760) * 2 * np.pi / 24), 0, None)
+    mask = np.zeros(8760, dtype=bool)
+    for start, length in gaps:
+        mask[start:start + length] = True
+    # keep every run within the limit (merged runs could exceed it)
+    runs = np.diff(np.concatenate([[0], mask.astype(int), [0]]))
+    starts, stops = np.flatnonzero(runs == 1), np.flatnonzero(runs == -1)
+    for a, b in zip(starts, stops):
+        if b - a > MAX_GAP_HOURS:
+            mask[a + MAX_GAP_HOURS:b] = False
+    data = pd.DataFrame({"temp_air": np.where(mask, np.nan, temp),
+                         "ghi": np.where(mask, np.nan, ghi)})
+    filled: dict[str, int] = {}
+    _fill_short_gaps(data, filled)
+    assert filled == {"temp_air": int(mask.sum()), "ghi": int(mask.sum())}
+    assert not data.isna().any().any()
+    assert (data["ghi"] >= 0).all()
+    runs = np.diff(np.concatenate([[0], mask.astype(int), [0]]))
+    for a, b in zip(np.flatnonzero(runs == 1), np.flatnonzero(runs == -1)):
+        lo, hi = sorted((temp[a - 1], temp[b % 8760]))
+        seg = data["temp_air"].to_numpy()[a:b]
+        assert ((seg >= lo - 1e-9) & (seg <= hi + 1e-9)).all()
+        assert_allclose(data["temp_air"].to_numpy()[~mask], temp[~mask])

@@ -113,7 +113,10 @@ def _read_text(path: Path, name: str) -> str:
     if size > _MAX_BYTES:
         raise WeatherFileError(f"{name}: {size} bytes is too large for an hourly weather year "
                                f"(limit {_MAX_BYTES})")
-    raw = path.read_bytes()
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise WeatherFileError(f"{name}: cannot be read ({exc.strerror or exc})") from None
     if b"\x00" in raw:
         line = raw[: raw.index(b"\x00")].count(b"\n") + 1
         raise WeatherFileError(f"{name}, line {line}: binary content (NUL byte); a weather "
@@ -171,8 +174,8 @@ def read_weather(path: str | PathLike, *, utc_offset: float | None = None) -> We
     p = Path(path)
     name = p.name or str(path)
     text = _read_text(p, name)
-    raw = parse(text, name)
     try:
+        raw = parse(text, name)
         data, offset, filled, notes = validate(raw, name, utc_offset)
     except WeatherFileError:
         raise
