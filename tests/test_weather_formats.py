@@ -167,3 +167,25 @@ def test_summary_table(greensboro_weather):
     assert s.loc["temp_air", "valid"] == 8760
     assert_allclose(s.loc["temp_air", "mean"], greensboro_weather.data["temp_air"].mean())
     assert s.loc["ghi", "min"] == 0.0
+
+
+def test_crlf_line_ends_and_utf8_bom(tmp_path, greensboro_epw_path, greensboro_path,
+                                     greensboro_weather):
+    epw = greensboro_epw_path.read_bytes()
+    (tmp_path / "crlf.epw").write_bytes(epw.replace(b"\n", b"\r\n"))
+    (tmp_path / "bom.epw").write_bytes(b"\xef\xbb\xbf" + epw + b"\n\n")
+    (tmp_path / "crlf.csv").write_bytes(greensboro_path.read_bytes().replace(b"\n", b"\r\n"))
+    for name in ("crlf.epw", "bom.epw", "crlf.csv"):
+        pd.testing.assert_frame_equal(read_weather(tmp_path / name).data,
+                                      greensboro_weather.data)
+
+
+def test_tmy2_city_with_spaces(tmp_path, miami_path):
+    """pvlib's read_tmy2 header parser splits on blanks; solair reads the fixed layout."""
+    lines = miami_path.read_text(encoding="latin-1").splitlines()
+    lines[0] = " 12839 MIAMI INTL AIRPORT     FL  -5 N 25 48 W  80 16     2"
+    p = tmp_path / "miami_spaces.tm2"
+    p.write_text("\n".join(lines) + "\n", encoding="latin-1")
+    w = read_weather(p)
+    assert w.site.name == "MIAMI INTL AIRPORT, FL"
+    assert_allclose((w.site.latitude, w.site.longitude), (25.8, -(80 + 16 / 60)))
