@@ -567,3 +567,23 @@ def test_portfolio_and_batch_climate_render_from_a_real_batch():
     assert plots.detect_result_type(ds) == "batch"
     for kind in ("finishes", "carpet", "monthly"):
         assert png_size(plots.figure_png(plots.draw(ds, kind), dpi=60))[0] == 450
+
+
+def test_hourly_csv_of_a_run_is_read_back(tmp_path):
+    """solair.output.write_result's CSV (local time with offset) round-trips to the dataset."""
+    from solair.output import write_result
+
+    ds = hand_made_run(spread=False)
+    path = write_result(ds, tmp_path / "r.csv")
+    back = plots.load_result(path)
+    assert plots.detect_result_type(back) == "run"
+    assert back.attrs["utc_offset_hours"] == -5.0
+    assert shaping.local_labels(back)[0] == pd.Timestamp("2001-01-01 01:00")
+    assert list(back["surface"].values) == ["roof", "north", "south"]
+    assert_allclose(back["temp_sol_air"].values, ds["temp_sol_air"].values, rtol=1e-5)
+    assert back["temp_sol_air"].attrs["units"] == "degC"
+    assert png_size(plots.figure_png(plots.draw(back, "carpet", minus_air=True), dpi=40))[0] == 300
+    bad = tmp_path / "bad.csv"
+    bad.write_text("time_local,x[a|b] (K)\n2001-01-01T01:00:00-05:00,1\n")
+    with pytest.raises(ConfigurationError, match="plot the NetCDF output instead"):
+        plots.load_result(bad)

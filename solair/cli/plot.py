@@ -32,7 +32,8 @@ _KINDS = ("carpet", "duration", "monthly", "finishes", "portfolio", "sky-spread"
 @click.option("--start", default=None, metavar="MM-DD",
               help="Sky-spread: first of the seven days drawn, MM-DD or YYYY-MM-DD.")
 @click.option("--metric", default=None, metavar="NAME",
-              help="Portfolio: the summary column to map; finishes: draw this metric only.")
+              help="Portfolio: the summary column to map; finishes: the metric columns to draw "
+                   "(comma-separated).")
 @click.option("--percent", is_flag=True, help="Duration curves against % of the year.")
 @click.option("--dpi", type=click.IntRange(50, 600), default=200, show_default=True,
               help="Resolution of a PNG figure.")

@@ -18,11 +18,13 @@ from __future__ import annotations
 
 import io
 import os
+import re
 import tempfile
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pandas as pd
 import xarray as xr
 from matplotlib.backends.backend_agg import FigureCanvasAgg
@@ -36,6 +38,7 @@ __all__ = [
     "RESULT_TYPES",
     "detect_result_type",
     "load_result",
+    "dataset_from_hourly_table",
     "draw",
     "figure_png",
     "save_figure",
@@ -79,6 +82,9 @@ def detect_result_type(result: xr.Dataset | pd.DataFrame) -> str:
             return "summary"
         if {"surface", "finish"} <= cols:
             return "metrics"
+        if "time_local" in cols:
+            raise ConfigurationError("an hourly CSV table must be read with load_result(), "
+                                     "or written as NetCDF (`solair run WEATHER -o result.nc`)")
         raise ConfigurationError(f"table with columns {sorted(cols)} is neither a batch summary "
                                  "(climate, surface, ...) nor a metrics table "
                                  "(surface, finish, ...)")
@@ -94,8 +100,69 @@ def detect_result_type(result: xr.Dataset | pd.DataFrame) -> str:
     return "batch" if any(m in result.attrs for m in batch_marks) else "compare"
 
 
+_COLUMN = re.compile(r"^(?P<name>[A-Za-z_][A-Za-z0-9_]*)(?:\[(?P<label>[^\]]+)\])?"
+                     r"(?: \((?P<unit>[^)]*)\))?$")
+_UNIT_BACK = {"°C": "degC"}
+
+
+def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "") -> xr.Dataset:
+    """Rebuild a run dataset from the hourly CSV of ``solair run`` (``time_local`` first).
+
+    Columns are ``variable (unit)`` or ``variable[surface] (unit)``; the local
+    times carry their UTC offset, so ``time`` (UTC) and ``utc_offset_hours`` are
+    restored. The CSV holds no site, surface geometry or model attributes:
+    ``site_name`` is set from ``name`` and the attribute ``source_table`` says
+    the rest is unknown (write NetCDF for the full record).
+
+    Raises
+    ------
+    ConfigurationError
+        Unreadable times or columns, or a table with more than one label per column.
+    """
+    try:
+        stamps = pd.to_datetime(table["time_local"], format="ISO8601")
+    except (ValueError, TypeError) as exc:
+        raise ConfigurationError(f"column time_local: cannot read the times ({exc})") from None
+    if stamps.dt.tz is None:
+        raise ConfigurationError("column time_local: times carry no UTC offset")
+    offset = stamps.iloc[0].utcoffset().total_seconds() / 3600.0
+    utc = pd.DatetimeIndex(stamps.dt.tz_convert("UTC").dt.tz_localize(None))
+    flat: dict[str, tuple[str, np.ndarray]] = {}
+    per_surface: dict[str, dict[str, np.ndarray]] = {}
+    units: dict[str, str] = {}
+    for col in table.columns[1:]:
+        match = _COLUMN.match(str(col))
+        if not match or (match.group("label") and "|" in match.group("label")):
+            raise ConfigurationError(f"column {col!r} is not 'variable[surface] (unit)'; "
+                                     "plot the NetCDF output instead")
+        var, label = match.group("name"), match.group("label")
+        units[var] = _UNIT_BACK.get(match.group("unit") or "", match.group("unit") or "1")
+        values = table[col].to_numpy(dtype=float)
+        if label is None:
+            flat[var] = ("time", values)
+        else:
+            per_surface.setdefault(var, {})[label] = values
+    surfaces = list(dict.fromkeys(s for cols in per_surface.values() for s in cols))
+    data: dict[str, Any] = {k: (dims, v) for k, (dims, v) in flat.items()}
+    for var, cols in per_surface.items():
+        missing = [s for s in surfaces if s not in cols]
+        if missing:
+            raise ConfigurationError(f"variable {var!r} has no column for surface {missing[0]!r}")
+        data[var] = (("time", "surface"), np.stack([cols[s] for s in surfaces], axis=1))
+    ds = xr.Dataset(data, coords={"time": utc, "surface": surfaces})
+    for var in ds.data_vars:
+        ds[var].attrs.update({"units": units[var], "long_name": var.replace("_", " ")})
+    ds.attrs.update({"site_name": name or "unnamed site", "utc_offset_hours": offset,
+                     "source_table": "hourly CSV table: no site, surface geometry or model "
+                                     "attributes (write NetCDF for the full record)"})
+    return ds
+
+
 def load_result(path: str | os.PathLike[str]) -> xr.Dataset | pd.DataFrame:
     """Read a result file: NetCDF (``.nc``) into memory, or a CSV table (``.csv``).
+
+    The hourly CSV of ``solair run`` is rebuilt into a dataset with
+    :func:`dataset_from_hourly_table`; other CSV files are metrics or summary tables.
 
     Raises
     ------
@@ -112,6 +179,8 @@ def load_result(path: str | os.PathLike[str]) -> xr.Dataset | pd.DataFrame:
                 result: xr.Dataset | pd.DataFrame = ds.load()
         elif suffix == ".csv":
             result = pd.read_csv(path, comment="#")
+            if "time_local" in result.columns:
+                result = dataset_from_hourly_table(result, name=path.stem)
         else:
             raise ConfigurationError(f"{path}: suffix {path.suffix!r} is not one of "
                                      "['.nc', '.csv']")
@@ -147,7 +216,8 @@ def draw(result: xr.Dataset | pd.DataFrame, kind: str, *,
     week, start : int or str, optional
         Week (1–53) or start date (``MM-DD``) of the sky-spread window.
     metric : str, optional
-        Metric column for ``portfolio`` (required) or the only metric for ``finishes``.
+        Metric column for ``portfolio`` (required), or the metrics (comma-separated) drawn
+        by ``finishes`` (default: peak temperature, hours below the dew point, heat gain).
     percent : bool
         Duration curve abscissa in % of the year.
 
@@ -188,7 +258,8 @@ def draw(result: xr.Dataset | pd.DataFrame, kind: str, *,
         else:
             table, site = shaping.metrics_from_table(result), ""
         return figures.finishes_figure(table, site=site, surfaces=surfaces,
-                                       metric_names=[metric] if metric else None)
+                                       metric_names=([m.strip() for m in metric.split(",")]
+                                                     if metric else None))
     if metric is None:
         numeric = sorted(c for c in result.columns if c not in ("climate", "surface", "finish")
                          and pd.api.types.is_numeric_dtype(result[c]))

@@ -341,8 +341,10 @@ def monthly_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
             ax.set_ylabel(variable_label(ds, variable))
     handles, texts = axes.flat[0].get_legend_handles_labels()
     panel.legend(handles, texts, loc="outside lower center", ncols=4)
-    for ax in axes[-1]:
-        ax.set_xlabel("Month")
+    for k, ax in enumerate(axes.flat[:len(names)]):
+        if k + ncols >= len(names):  # nothing drawn below: this panel carries the month axis
+            ax.xaxis.set_tick_params(labelbottom=True)
+            ax.set_xlabel("Month")
     panel.suptitle(f"{_site(ds)}: monthly {_SHORT_NAME.get(variable, variable).lower()}"
                  f"{_finish_suffix(finish)}", x=0.01, ha="left")
     return fig
