@@ -94,6 +94,9 @@ path = "{ERA_EPW}"
 label = "era_45n_8e"
 utc_offset = 0
 {extra}
+[models]
+dew = false          # dew and frost are checked in test_compare; keep the machinery tests fast
+
 [surfaces]
 set = "none"
 
