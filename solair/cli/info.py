@@ -54,7 +54,7 @@ def format_info(weather) -> str:
                  f"{sum(weather.filled.values())} values in all")
     lines.append("")
     table = weather.summary()
-    head = f"{'field':<18} {'unit':<7} {'valid':>6} {'complete':>9} {'filled':>7} " \
+    head = f"{'field':<18} {'unit':<7} {'valid':>6} {'in file':>9} {'filled':>7} " \
            f"{'min':>10} {'mean':>10} {'max':>10}"
     lines.append(head)
     lines.append("-" * len(head))
@@ -62,8 +62,11 @@ def format_info(weather) -> str:
         dec = _DECIMALS.get(row["unit"], 2)
         stats = " ".join(f"{row[k]:>10.{dec}f}" for k in ("min", "mean", "max"))
         lines.append(
-            f"{field:<18} {row['unit']:<7} {row['valid']:>6d} {100 * row['valid'] / n:>8.1f}% "
+            f"{field:<18} {row['unit']:<7} {row['valid']:>6d} "
+            f"{100 * (row['valid'] - row['filled']) / n:>8.1f}% "
             f"{row['filled']:>7d} {stats}")
+    lines.append("in file: share of the hours holding the file's own value; filled: values "
+                 "interpolated; derived values are listed in the notes")
     if weather.notes:
         lines.append("")
         lines.append("notes")
