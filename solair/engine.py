@@ -590,24 +590,25 @@ def compute(
     alpha = np.array([s.absorptance for s in surfaces])
     eps = np.array([s.emissivity for s in surfaces])
     result = sol_air(forcing, alpha, eps, linearisation=linearisation)
-    ds = forcing.drop_vars(["h_conv", *(["temp_sky_models", "sky_model"]
-                                        if "temp_sky_models" in forcing else [])])
-    ds = ds.merge(result.drop_vars([c for c in result.coords if c in ds.coords]),
-                  combine_attrs="override")
-    ds = ds.assign_coords(absorptance=("surface", alpha), emissivity=("surface", eps))
-    _label(ds["absorptance"], "absorptance")
-    _label(ds["emissivity"], "emissivity")
-    _label(ds["surface_tilt"], "surface_tilt")
-    _label(ds["surface_azimuth"], "surface_azimuth")
-    ds.attrs.update(forcing.attrs)
-    ds.attrs["title"] = "solair sol-air temperature and external surface resistance"
-    ds.attrs["linearisation"] = linearisation
     order = ["temp_air", "temp_dew", "relative_humidity", "pressure", "wind_speed",
              "wind_direction", "solar_zenith", "solar_azimuth", "temp_sky", "sky_source",
              "temp_ground", "temp_sky_min", "temp_sky_max", "poa_global", "h_conv", "h_rad",
              "h_e", "r_se", "temp_sol_air", "temp_sol_air_min", "temp_sol_air_max",
              "view_sky", "view_air", "view_ground"]
-    return ds[[v for v in order if v in ds]]
+    # assemble from the variables directly (both share the same time/surface coordinates)
+    source = {**{k: forcing[k].variable for k in forcing.data_vars},
+              **{k: result[k].variable for k in result.data_vars}}
+    coords = {k: forcing.coords[k].variable for k in ("time", "surface", "surface_tilt",
+                                                       "surface_azimuth")}
+    coords["absorptance"] = xr.Variable("surface", alpha)
+    coords["emissivity"] = xr.Variable("surface", eps)
+    ds = xr.Dataset({k: source[k] for k in order if k in source}, coords=coords,
+                    attrs=dict(forcing.attrs))
+    for name in ("absorptance", "emissivity", "surface_tilt", "surface_azimuth"):
+        _label(ds[name], name)
+    ds.attrs["title"] = "solair sol-air temperature and external surface resistance"
+    ds.attrs["linearisation"] = linearisation
+    return ds
 
 
 def _assert_finite(ds: xr.Dataset) -> None:
