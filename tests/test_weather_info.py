@@ -68,3 +68,18 @@ def test_info_on_bundled_sample():
     assert result.stderr == ""
     assert "Harbourside Depot" in result.stdout
     assert "opaque sky cover 8760 h" in result.stdout
+
+
+def test_info_counts_derived_values_out_of_in_file(tmp_path, greensboro_epw_path):
+    lines = greensboro_epw_path.read_text(encoding="utf-8").splitlines()
+    for i in range(8, len(lines)):
+        parts = lines[i].split(",")
+        parts[9] = "999999"  # pressure missing everywhere -> derived from altitude
+        lines[i] = ",".join(parts)
+    p = tmp_path / "no_pressure.epw"
+    p.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    result = CliRunner().invoke(cli, ["info", str(p)])
+    assert result.exit_code == 0, result.output
+    assert "solair: warning: " in result.stderr and "alt2pres" in result.stderr
+    row = next(ln for ln in result.stdout.splitlines() if ln.startswith("pressure "))
+    assert "0.0%" in row and " 8760 " in row

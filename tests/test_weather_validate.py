@@ -126,6 +126,7 @@ def test_dew_point_derived_from_rh_with_warning(tmp_path, epw_text, reference):
     with pytest.warns(WeatherWarning, match="derived temp_dew from relative_humidity"):
         w = read_weather(_write(tmp_path, text))
     assert any(n.startswith("derived temp_dew") for n in w.notes)
+    assert w.derived == {"temp_dew": 8760}
     err = np.abs(w.data["temp_dew"] - reference.data["temp_dew"])
     # the file stores RH in whole percent and dew point in 0.1 K: rounding only
     assert np.percentile(err, 50) < 0.1

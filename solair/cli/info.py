@@ -54,6 +54,7 @@ def format_info(weather) -> str:
                  f"{sum(weather.filled.values())} values in all")
     lines.append("")
     table = weather.summary()
+    derived = getattr(weather, "derived", {})
     head = f"{'field':<18} {'unit':<7} {'valid':>6} {'in file':>9} {'filled':>7} " \
            f"{'min':>10} {'mean':>10} {'max':>10}"
     lines.append(head)
@@ -63,10 +64,10 @@ def format_info(weather) -> str:
         stats = " ".join(f"{row[k]:>10.{dec}f}" for k in ("min", "mean", "max"))
         lines.append(
             f"{field:<18} {row['unit']:<7} {row['valid']:>6d} "
-            f"{100 * (row['valid'] - row['filled']) / n:>8.1f}% "
+            f"{100 * (row['valid'] - row['filled'] - derived.get(field, 0)) / n:>8.1f}% "
             f"{row['filled']:>7d} {stats}")
-    lines.append("in file: share of the hours holding the file's own value; filled: values "
-                 "interpolated; derived values are listed in the notes")
+    lines.append("in file: share of the hours holding the file's own value (not filled, not "
+                 "derived); filled: values interpolated")
     if weather.notes:
         lines.append("")
         lines.append("notes")

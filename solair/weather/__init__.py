@@ -73,12 +73,16 @@ class Weather:
         Values filled by interpolation, per field (gaps up to ``MAX_GAP_HOURS``).
     notes : list[str]
         What was derived, dropped or assumed while reading.
+    derived : dict[str, int]
+        Values derived from other fields (dew point, RH, pressure), per field; only
+        the fields with derived values appear.
     """
 
     site: Site
     data: pd.DataFrame
     filled: dict[str, int] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    derived: dict[str, int] = field(default_factory=dict)
 
     def summary(self) -> pd.DataFrame:
         """One row per field: unit, valid count, filled count, min, mean and max.
@@ -176,7 +180,7 @@ def read_weather(path: str | PathLike, *, utc_offset: float | None = None) -> We
     text = _read_text(p, name)
     try:
         raw = parse(text, name)
-        data, offset, filled, notes = validate(raw, name, utc_offset)
+        data, offset, filled, notes, derived = validate(raw, name, utc_offset)
     except WeatherFileError:
         raise
     except (ValueError, KeyError, IndexError, TypeError) as exc:  # never a bare traceback
@@ -185,4 +189,4 @@ def read_weather(path: str | PathLike, *, utc_offset: float | None = None) -> We
     site = Site(name=raw.meta["name"], latitude=float(raw.meta["latitude"]),
                 longitude=float(raw.meta["longitude"]), altitude=float(raw.meta["altitude"]),
                 utc_offset=float(offset), source_format=raw.source_format, path=str(path))
-    return Weather(site=site, data=data, filled=filled, notes=notes)
+    return Weather(site=site, data=data, filled=filled, notes=notes, derived=derived)

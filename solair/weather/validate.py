@@ -316,7 +316,8 @@ def _fill_short_gaps(data: pd.DataFrame, filled: dict[str, int]) -> None:
         filled[col] = filled.get(col, 0) + int(short.sum())
 
 
-def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str]) -> None:
+def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str],
+            counts: dict[str, int]) -> None:
     from pvlib.atmosphere import alt2pres
 
     from solair import psychrometrics as ps
@@ -331,12 +332,14 @@ def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str]) ->
         dew = ps.dew_point(t[need], np.clip(rh[need], 0.0, 100.0), phase="water")
         td[need] = np.minimum(dew, t[need])
         data["temp_dew"] = td
+        counts["temp_dew"] = int(need.sum())
         derived.append(f"temp_dew from relative_humidity and temp_air in {int(need.sum())} hours")
     need = np.isnan(rh) & ~np.isnan(td) & ~np.isnan(t)
     if need.any():
         rh = rh.copy()
         rh[need] = ps.relative_humidity(t[need], td[need], phase="water")
         data["relative_humidity"] = rh
+        counts["relative_humidity"] = int(need.sum())
         derived.append(f"relative_humidity from temp_dew and temp_air in {int(need.sum())} hours")
     p = data["pressure"].to_numpy()
     need = np.isnan(p)
@@ -344,6 +347,7 @@ def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str]) ->
         p = p.copy()
         p[need] = float(alt2pres(altitude))
         data["pressure"] = p
+        counts["pressure"] = int(need.sum())
         derived.append(f"pressure {float(alt2pres(altitude)):.0f} Pa from the site altitude "
                        f"{altitude:g} m (pvlib.atmosphere.alt2pres) in {int(need.sum())} hours")
     for d in derived:
@@ -369,7 +373,7 @@ def _check_complete(data: pd.DataFrame, line: np.ndarray, name: str) -> None:
 # --------------------------------------------------------------------------- entry
 
 def validate(raw: RawTable, name: str, utc_offset: float | None = None):
-    """Turn a :class:`RawTable` into ``(data, utc_offset, filled, notes)``.
+    """Turn a :class:`RawTable` into ``(data, utc_offset, filled, notes, derived)``.
 
     Parameters
     ----------
@@ -383,8 +387,8 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
     Returns
     -------
     tuple
-        The canonical DataFrame, the UTC offset used [h], the fill counts per field
-        and the notes.
+        The canonical DataFrame, the UTC offset used [h], the fill counts per field,
+        the notes and the counts of derived values per field.
     """
     notes = list(raw.notes)
     check_header(raw.meta, name, utc_offset)
@@ -424,7 +428,8 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
     _check_consistency(data, line, name, raw.meta["latitude"], raw.meta["longitude"], shift)
     filled: dict[str, int] = {}
     _fill_short_gaps(data, filled)
-    _derive(data, raw.meta["altitude"], name, notes)
+    derived: dict[str, int] = {}
+    _derive(data, raw.meta["altitude"], name, notes, derived)
     _check_complete(data, line, name)
     cols = [c for c in REQUIRED] + [c for c in OPTIONAL if c in data and data[c].notna().any()]
     for c in OPTIONAL:
@@ -432,4 +437,4 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
             notes.append(f"{c} not given in the file (all missing)")
     data = data[cols]
     filled = {c: filled.get(c, 0) for c in cols}
-    return data, offset, filled, notes
+    return data, offset, filled, notes, derived
