@@ -20,7 +20,7 @@ import html
 import os
 import re
 import tempfile
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
@@ -29,8 +29,10 @@ import xarray as xr
 
 from solair.errors import ConfigurationError
 from solair.plots import detect_result_type, draw, figure_png, load_result, shaping
+from solair.plots.shaping import design_values_table, monthly_means_table
 
-__all__ = ["CAUTION", "MODEL_SOURCES", "SECTIONS", "build_report", "write_report"]
+__all__ = ["CAUTION", "MODEL_SOURCES", "SECTIONS", "build_report", "write_report",
+           "design_values_table", "monthly_means_table"]
 
 CAUTION = "Engineering estimate; verify against local codes and licensed professional practice."
 
@@ -184,7 +186,6 @@ ol.sources li{margin-bottom:.3em}
 
 _WEATHER_VARS = ("temp_air", "temp_dew", "relative_humidity", "pressure", "wind_speed",
                  "temp_sky")
-_MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"]
 _PROVENANCE_SKIP = re.compile(r"^(_|history$|Conventions$)")
 
 
@@ -376,68 +377,6 @@ def _models_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
     return "".join(out)
 
 
-def _main_variable(ds: xr.Dataset) -> str:
-    """temp_surface for a compare/batch result (the response), else temp_sol_air."""
-    if "finish" in ds.dims and "temp_surface" in ds.data_vars:
-        return "temp_surface"
-    return "temp_sol_air" if "temp_sol_air" in ds.data_vars else "temp_surface"
-
-
-def _per_surface(ds: xr.Dataset, var: str, finish: str | None) -> Iterable[tuple[str, np.ndarray]]:
-    da = ds[var]
-    if "finish" in da.dims:
-        da = da.sel(finish=finish)
-    for s in ds["surface"].values:
-        yield str(s), np.asarray(da.sel(surface=s).values, dtype=float)
-
-
-def monthly_means_table(ds: xr.Dataset, *, finish: str | None = None) -> pd.DataFrame:
-    """Monthly mean of the air and of the sol-air temperature per surface [°C]."""
-    labels = shaping.local_labels(ds)
-    var = _main_variable(ds)
-    series = list(_per_surface(ds, var, finish))
-    if "temp_air" in ds.data_vars:
-        series.insert(0, ("air", np.asarray(ds["temp_air"].values, dtype=float)))
-    columns = {s: shaping.monthly_statistics(v, labels)["mean"] for s, v in series}
-    frame = pd.DataFrame(columns)
-    frame.index = pd.Index([_MONTHS[m - 1] for m in frame.index], name="month")
-    frame.loc["year"] = [float(np.nanmean(v)) for _, v in series]
-    return frame
-
-
-def design_values_table(ds: xr.Dataset, *, finish: str | None = None) -> pd.DataFrame:
-    """Annual 1 % / 99 % values per surface [°C] (common practice).
-
-    ``exceeded 1 % of hours`` is the 99th percentile of the hourly values (about
-    88 h per year above it); ``exceeded 99 % of hours`` is the 1st percentile
-    (about 88 h per year below it), after the annual-percentile convention of
-    climatic design data (common practice).
-    """
-    var = _main_variable(ds)
-    rows = {}
-    series = list(_per_surface(ds, var, finish))
-    if "temp_air" in ds.data_vars:
-        series.insert(0, ("air", np.asarray(ds["temp_air"].values, dtype=float)))
-    for s, v in series:
-        v = v[np.isfinite(v)]
-        rows[s] = {"min": v.min(), "exceeded 99 % of hours": np.percentile(v, 1.0),
-                   "mean": v.mean(), "exceeded 1 % of hours": np.percentile(v, 99.0),
-                   "max": v.max()}
-    frame = pd.DataFrame.from_dict(rows, orient="index")
-    frame.index.name = "surface"
-    return frame
-
-
-def _report_finish(ds: xr.Dataset) -> str | None:
-    """The finish shown in hourly tables and figures: the most absorbing one (worst case)."""
-    if "finish" not in ds.dims:
-        return None
-    names = [str(f) for f in ds["finish"].values]
-    if "absorptance" in ds.coords and ds["absorptance"].dims == ("finish",):
-        return names[int(np.argmax(ds["absorptance"].values))]
-    return names[0]
-
-
 _KEY_METRICS = ["absorptance", "emissivity", "sri", "temp_surface_max", "temp_surface_p99",
                 "hours_above_threshold", "dew_hours", "frost_hours", "freeze_thaw_cycles",
                 "heat_gain", "heat_loss", "condensate_total"]
@@ -468,16 +407,16 @@ def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
     for name, res in results:
         rtype = detect_result_type(res)
         if isinstance(res, xr.Dataset):
-            finish = _report_finish(res)
-            var = _main_variable(res)
+            finish = shaping.most_absorbing_finish(res)
+            var = shaping.main_variable(res)
             what = "sol-air" if var == "temp_sol_air" else "surface"
             fin = f", finish {finish}" if finish else ""
             out.append(f"<h3>{_e(name)}</h3>")
             air = "air and " if "temp_air" in res.data_vars else ""
-            out.append(_table(monthly_means_table(res, finish=finish),
+            out.append(_table(shaping.monthly_means_table(res, finish=finish),
                               caption=f"Monthly mean {air}{what} temperature [°C]{fin} "
                                       "(local standard time)"))
-            out.append(_table(design_values_table(res, finish=finish),
+            out.append(_table(shaping.design_values_table(res, finish=finish),
                               caption=f"Design values of the {what} temperature [°C]{fin}: "
                                       "annual percentiles of the hourly values"))
             if "finish" in res.dims and not has_table:
@@ -525,7 +464,7 @@ def _figures_for(name: str, res: xr.Dataset | pd.DataFrame, dpi: float,
     plans: list[tuple[str, dict, str]] = []
     if isinstance(res, xr.Dataset):
         site = res.attrs.get("site_name", name)
-        finish = _report_finish(res)
+        finish = shaping.most_absorbing_finish(res)
         var = "temp_surface" if "temp_surface" in res.data_vars else "temp_sol_air"
         what = "surface" if var == "temp_surface" else "sol-air"
         fin = f", finish {finish}" if finish else ""

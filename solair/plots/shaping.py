@@ -11,7 +11,7 @@ and the last hour of the year (label 2002-01-01 00:00) is day 365, hour 23.
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 
 import numpy as np
 import pandas as pd
@@ -32,12 +32,18 @@ __all__ = [
     "FINISH_METRICS",
     "portfolio_grid",
     "metrics_from_table",
+    "main_variable",
+    "monthly_means_table",
+    "design_values_table",
+    "most_absorbing_finish",
     "metric_label",
 ]
 
 DAYS_PER_YEAR = 365
 HOURS_PER_DAY = 24
 _HALF_HOUR = pd.Timedelta(minutes=30)
+_MONTH_NAMES = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov",
+                "Dec"]
 
 #: metrics recomputed from a time × surface × finish dataset: name -> (label, unit)
 FINISH_METRICS: dict[str, tuple[str, str]] = {
@@ -402,3 +408,65 @@ def metrics_from_table(table: pd.DataFrame) -> pd.DataFrame:
     if "hours_below_dew_point" not in out and {"dew_hours", "frost_hours"} <= set(out.columns):
         out["hours_below_dew_point"] = out["dew_hours"] + out["frost_hours"]
     return out
+
+
+def main_variable(ds: xr.Dataset) -> str:
+    """temp_surface for a compare/batch result (the response), else temp_sol_air."""
+    if "finish" in ds.dims and "temp_surface" in ds.data_vars:
+        return "temp_surface"
+    return "temp_sol_air" if "temp_sol_air" in ds.data_vars else "temp_surface"
+
+
+def _per_surface(ds: xr.Dataset, var: str, finish: str | None) -> Iterable[tuple[str, np.ndarray]]:
+    da = ds[var]
+    if "finish" in da.dims:
+        da = da.sel(finish=finish)
+    for s in ds["surface"].values:
+        yield str(s), np.asarray(da.sel(surface=s).values, dtype=float)
+
+
+def monthly_means_table(ds: xr.Dataset, *, finish: str | None = None) -> pd.DataFrame:
+    """Monthly mean of the air and of :func:`main_variable` per surface [°C] (local months)."""
+    labels = local_labels(ds)
+    var = main_variable(ds)
+    series = list(_per_surface(ds, var, finish))
+    if "temp_air" in ds.data_vars:
+        series.insert(0, ("air", np.asarray(ds["temp_air"].values, dtype=float)))
+    columns = {s: monthly_statistics(v, labels)["mean"] for s, v in series}
+    frame = pd.DataFrame(columns)
+    frame.index = pd.Index([_MONTH_NAMES[m - 1] for m in frame.index], name="month")
+    frame.loc["year"] = [float(np.nanmean(v)) for _, v in series]
+    return frame
+
+
+def design_values_table(ds: xr.Dataset, *, finish: str | None = None) -> pd.DataFrame:
+    """Annual 1 % / 99 % values per surface [°C] (common practice).
+
+    ``exceeded 1 % of hours`` is the 99th percentile of the hourly values (about
+    88 h per year above it); ``exceeded 99 % of hours`` is the 1st percentile
+    (about 88 h per year below it), after the annual-percentile convention of
+    climatic design data (common practice).
+    """
+    var = main_variable(ds)
+    rows = {}
+    series = list(_per_surface(ds, var, finish))
+    if "temp_air" in ds.data_vars:
+        series.insert(0, ("air", np.asarray(ds["temp_air"].values, dtype=float)))
+    for s, v in series:
+        v = v[np.isfinite(v)]
+        rows[s] = {"min": v.min(), "exceeded 99 % of hours": np.percentile(v, 1.0),
+                   "mean": v.mean(), "exceeded 1 % of hours": np.percentile(v, 99.0),
+                   "max": v.max()}
+    frame = pd.DataFrame.from_dict(rows, orient="index")
+    frame.index.name = "surface"
+    return frame
+
+
+def most_absorbing_finish(ds: xr.Dataset) -> str | None:
+    """The finish shown in hourly tables and figures: the most absorbing one (worst case)."""
+    if "finish" not in ds.dims:
+        return None
+    names = [str(f) for f in ds["finish"].values]
+    if "absorptance" in ds.coords and ds["absorptance"].dims == ("finish",):
+        return names[int(np.argmax(ds["absorptance"].values))]
+    return names[0]
