@@ -183,7 +183,8 @@ def run_climate(task: dict[str, Any]) -> dict[str, Any]:
         metrics = metrics.copy()
         metrics.insert(0, "climate", task["label"])
         nc_path, metrics_path = _outputs(Path(task["out_dir"]), task["label"])
-        _write_netcdf(ds, nc_path)
+        hourly = task["settings"].get("hourly", {})
+        _write_netcdf(_hourly_subset(ds, hourly), nc_path, hourly.get("dtype", "float64"))
         atomic_write(metrics_path, lambda tmp: metrics.to_csv(tmp, index=False))
         record["n_metric_rows"] = int(len(metrics))
         record["status"] = "done"
@@ -195,13 +196,25 @@ def run_climate(task: dict[str, Any]) -> dict[str, Any]:
     return record
 
 
-def _write_netcdf(ds, path: Path) -> None:
+def _hourly_subset(ds, hourly: dict[str, Any]):
+    """Keep the hourly variables asked for (dew variables exist only with dew on)."""
+    names = hourly.get("variables") or []
+    if names:
+        ds = ds[[n for n in names if n in ds.data_vars]]
+    return ds
+
+
+def _write_netcdf(ds, path: Path, dtype: str = "float64") -> None:
     import dask
+    import numpy as np
+
+    encoding = {name: {"dtype": dtype} for name, var in ds.data_vars.items()
+                if np.issubdtype(var.dtype, np.floating) and dtype != "float64"}
 
     def write(tmp: Path) -> None:
         # the synchronous scheduler keeps xarray from taking a distributed lock per file
         with dask.config.set(scheduler="synchronous"):
-            ds.to_netcdf(tmp, engine="h5netcdf")
+            ds.to_netcdf(tmp, engine="h5netcdf", encoding=encoding)
 
     atomic_write(path, write)
 

@@ -175,6 +175,20 @@ class MetricChoice(_Strict):
                                     description="[degC] for hours_above_threshold")
 
 
+class HourlyChoice(_Strict):
+    """What the per-climate NetCDF files keep: the variables (all when empty) and the precision."""
+
+    variables: list[str] = Field(default_factory=list)
+    dtype: str = "float64"
+
+    @field_validator("dtype")
+    @classmethod
+    def _known_dtype(cls, value: str) -> str:
+        if value not in ("float64", "float32"):
+            raise ValueError(f"dtype {value!r} is not one of ['float32', 'float64']")
+        return value
+
+
 class Portfolio(_Strict):
     """A validated portfolio file (see the module docstring for the layout)."""
 
@@ -186,6 +200,7 @@ class Portfolio(_Strict):
     construction: str | None = None
     models: ModelChoices = Field(default_factory=ModelChoices)
     metrics: MetricChoice = Field(default_factory=MetricChoice)
+    hourly: HourlyChoice = Field(default_factory=HourlyChoice)
     source: str = Field(default="<memory>", exclude=True, description="the file it came from")
 
     def resolve(self, output: str | os.PathLike | None = None) -> ResolvedPortfolio:
@@ -434,6 +449,7 @@ def _resolve(pf: Portfolio, output: str | os.PathLike | None) -> ResolvedPortfol
         "construction": _resolve_construction(pf, fname, base),
         "models": _resolve_models(pf, fname),
         "metrics": _resolve_metrics(pf, fname),
+        "hourly": _resolve_hourly(pf, fname),
         "solair_version": _solair_version(),
     }
     out = Path(output) if output is not None else Path(pf.output)
@@ -567,6 +583,20 @@ def _resolve_metrics(pf: Portfolio, fname: str) -> dict[str, Any]:
                 f"{fname}: metrics.keep[{i}] = {name!r}: not a metric; allowed: "
                 f"{sorted(METRIC_COLUMNS)}")
     return pf.metrics.model_dump()
+
+
+#: the hourly variables of a comparison result, per climate (see solair.compare)
+HOURLY_VARIABLES = ("temp_surface", "heat_flux", "heat_flux_exterior", "temp_sol_air", "h_e",
+                    "latent_flux", "condensation", "condensate")
+
+
+def _resolve_hourly(pf: Portfolio, fname: str) -> dict[str, Any]:
+    for i, name in enumerate(pf.hourly.variables):
+        if name not in HOURLY_VARIABLES:
+            raise ConfigurationError(
+                f"{fname}: hourly.variables[{i}] = {name!r}: not an hourly variable; allowed: "
+                f"{sorted(HOURLY_VARIABLES)}")
+    return pf.hourly.model_dump()
 
 
 def _allowed_models() -> dict[str, frozenset[str]]:

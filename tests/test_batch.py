@@ -459,3 +459,29 @@ def test_serial_run_small(estate, tmp_path, pvlib_data_dir):
             assert "units" in var.attrs and "long_name" in var.attrs, name
             if np.issubdtype(var.dtype, np.floating):
                 assert not np.isnan(var.values).all(), name
+
+
+def test_hourly_subset_float32_and_kept_metrics(tmp_path, pvlib_data_dir):
+    """[hourly] and [metrics] choose what is written; both are part of the configuration hash."""
+    weather = tmp_path / "weather"
+    weather.mkdir()
+    shutil.copy(pvlib_data_dir / "703165TY.csv", weather / "sand_point.csv")
+    text = portfolio_text(weather)
+    start = text.index('[[climates]]\npath = "{pvlib_data}')
+    text = text[:start] + text[text.index("[models]"):]
+    text += ('\n[hourly]\nvariables = ["temp_surface", "temp_sol_air"]\ndtype = "float32"\n'
+             '\n[metrics]\nkeep = ["temp_surface_max", "dew_hours"]\n')
+    pf = tmp_path / "portfolio.toml"
+    pf.write_text(text, encoding="utf-8")
+    res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
+    assert res.done == ["sand_point"], res.failed
+    with xr.open_dataset(tmp_path / "results" / "climates" / "sand_point.nc",
+                         engine="h5netcdf") as ds:
+        assert sorted(ds.data_vars) == ["temp_sol_air", "temp_surface"]
+        assert ds["temp_surface"].dtype == np.float32
+    table = pd.read_csv(tmp_path / "results" / "summary.csv")
+    assert {"climate", "surface", "finish", "temp_surface_max", "dew_hours"} <= set(table)
+    assert "heat_gain" not in table
+    before = load_portfolio(pf).resolve().config_hash
+    pf.write_text(text.replace('dtype = "float32"', 'dtype = "float64"'), encoding="utf-8")
+    assert load_portfolio(pf).resolve().config_hash != before

@@ -276,3 +276,40 @@ def test_example_portfolio_is_valid():
     assert len(res.climates) >= 2
     for clim in res.climates:
         assert Path(clim.path).is_file()
+
+
+def test_hourly_and_metric_names_are_checked(folder):
+    text = BASE + '\n[hourly]\nvariables = ["temp_surface", "temp_surfce"]\n'
+    with pytest.raises(ConfigurationError,
+                       match=r"hourly\.variables\[1\] = 'temp_surfce': not an hourly variable"):
+        load_portfolio(write(folder, text)).resolve()
+    text = BASE + '\n[metrics]\nkeep = ["peak"]\n'
+    with pytest.raises(ConfigurationError, match=r"metrics\.keep\[0\] = 'peak': not a metric"):
+        load_portfolio(write(folder, text)).resolve()
+    text = BASE + '\n[hourly]\ndtype = "float16"\n'
+    with pytest.raises(ConfigurationError, match=r"hourly\.dtype = 'float16'"):
+        load_portfolio(write(folder, text)).resolve()
+
+
+def test_response_needing_a_construction(folder):
+    text = BASE + '\n[models]\nresponse = "transient"\n'
+    with pytest.raises(ConfigurationError,
+                       match=r"models\.response = 'transient': needs a construction"):
+        load_portfolio(write(folder, text)).resolve()
+
+
+def test_catalogue_finish_and_construction(folder):
+    text = BASE.replace('name = "test"', 'name = "test"\nconstruction = "metal_deck_roof"') + (
+        '\n[[finishes]]\nname = "white_single_ply_membrane"\n')
+    res = load_portfolio(write(folder, text)).resolve()
+    names = [f["name"] for f in res.settings["finishes"]]
+    assert names == ["client_grey", "white_single_ply_membrane"]
+    assert res.settings["construction"]["name"] == "metal_deck_roof"
+    assert len(res.settings["construction"]["layers"]) >= 1
+    bad = text.replace('"metal_deck_roof"', '"tin_shed"')
+    with pytest.raises(ConfigurationError, match=r"construction = 'tin_shed': construction"):
+        load_portfolio(write(folder, bad)).resolve()
+    bad = text.replace('name = "white_single_ply_membrane"', 'name = "chrome"')
+    with pytest.raises(ConfigurationError,
+                       match=r'finishes\[1\] \("chrome"\)\.name = \'chrome\': not a catalogue'):
+        load_portfolio(write(folder, bad)).resolve()
