@@ -26,7 +26,7 @@ from solair.errors import ConfigurationError
 from solair.finishes import Finish, get_finish, sri
 from solair.response import EXTERIOR_MODELS, RESPONSE_MODELS, surface_response
 
-__all__ = ["compare", "CAUTION", "METRIC_COLUMNS", "EVAPOTRANSPIRATION_NOTE"]
+__all__ = ["compare", "sri_table", "CAUTION", "METRIC_COLUMNS", "EVAPOTRANSPIRATION_NOTE"]
 
 CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 EVAPOTRANSPIRATION_NOTE = (
@@ -66,6 +66,8 @@ METRIC_COLUMNS = {
     "heat_flux_peak_out": "peak hourly heat flux out of the building [W m-2]",
     "condensate_total": "water condensed on the exterior surface over the year [kg m-2]",
     "wet_hours": "hours in which the exterior surface holds dew or frost [h]",
+    "u_value": "ISO 6946 U-value of the construction for the surface tilt [W m-2 K-1]",
+    "note": "caveat of the finish (e.g. indicative only), empty when none",
 }
 
 _OWN_KEYS = {"response", "temp_indoor", "threshold", "dew", "exterior", "linearisation",
@@ -296,6 +298,7 @@ def compare(
         "sri": np.tile(ds["sri"].values, n_s),
     }
     rows.update({k: np.asarray(v).reshape(-1) for k, v in table.items()})
+    rows["note"] = np.tile([_finish_note(f) for f in fins], n_s)
     if cons is not None:
         tilts = np.repeat(forcing["surface_tilt"].values, n_f)
         rows["u_value"] = 1.0 / (r_si(tilts, False) + cons.resistance + 0.04)
@@ -303,6 +306,13 @@ def compare(
     df.attrs.update({"caution": CAUTION, "notes": ds.attrs["notes"],
                      "response_model": response, "construction": ds.attrs["construction"]})
     return ds, df
+
+
+def _finish_note(f: Finish) -> str:
+    parts = [f.note] if f.note else []
+    if f.indicative:
+        parts.append(EVAPOTRANSPIRATION_NOTE)
+    return "; ".join(parts)
 
 
 def sri_table(finishes: Sequence[Finish]) -> pd.DataFrame:

@@ -93,9 +93,14 @@ def test_result_contract(result):
         assert key in ds.attrs, key
     assert ds.attrs["caution"] == CAUTION
     assert "evapotranspiration" in ds.attrs["notes"]
+    assert "evapotranspiration" in _row(df, "roof", "vegetated_roof").note
+    assert _row(df, "roof", "black_membrane").note == ""
     assert len(df) == 10
     assert_allclose(df.sri[df.finish == "black_membrane"], -1.0, atol=0.1)
     assert not df.select_dtypes("number").isna().any().any()
+    from solair.compare import METRIC_COLUMNS
+
+    assert set(METRIC_COLUMNS) <= set(df.columns)
     assert np.isfinite(ds["temp_surface"].values).all()
     assert (ds["condensate"].values >= 0).all()
 

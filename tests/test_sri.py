@@ -105,3 +105,13 @@ def test_bad_inputs():
         sri(0.5, 0.9, method="fit")
     with pytest.raises(ConfigurationError, match=r"must lie in \[0, 1\]"):
         sri(1.2, 0.9)
+
+
+def test_sri_table_three_wind_classes():
+    from solair.compare import sri_table
+    from solair.finishes import FINISHES
+
+    t = sri_table([FINISHES["black_membrane"], FINISHES["white_render"]])
+    assert list(t.columns) == ["finish", "absorptance", "emissivity", "sri_low", "sri_medium",
+                               "sri_high"]
+    assert_allclose(t.sri_medium, [FINISHES[n].sri() for n in ("black_membrane", "white_render")])
