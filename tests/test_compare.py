@@ -184,3 +184,24 @@ def test_cli_bad_construction_and_finish_files(greensboro_path, tmp_path):
                                    "--finish-file", str(fin), "-o", str(tmp_path / "t.csv")])
     assert res.exit_code == 2
     assert "f.toml: finish 'shiny': emissivity = 1.5 is outside [0, 1]" in res.output
+
+
+def test_nonlinear_massless_equals_engine_surface_mode(greensboro_weather):
+    # two independent solutions of the same exact balance: solair.balance's surface mode
+    # (via the engine) and the response module's Newton closure with exterior="nonlinear"
+    fins = ["black_membrane", "galvanised_steel"]
+    a, _ = compare(greensboro_weather, [ROOF, NORTH], fins, dew=False)
+    b, _ = compare(greensboro_weather, [ROOF, NORTH], fins, dew=False, exterior="nonlinear")
+    assert_allclose(b["temp_surface"].values, a["temp_surface"].values, atol=1e-6)
+
+
+def test_hourly_indoor_temperature(greensboro_weather):
+    t_in = np.where(np.arange(8760) % 24 < 8, 16.0, 22.0)
+    ds, _ = compare(greensboro_weather, [ROOF], ["white_render"], "etics_wall",
+                    response="steady", dew=False, temp_indoor=t_in)
+    q = ds["heat_flux"].values[:, 0, 0]
+    ts = ds["temp_surface"].values[:, 0, 0]
+    assert np.all(np.sign(q) == np.sign(ts - t_in))
+    with pytest.raises(solair.ConfigurationError, match="temp_indoor has 3 values"):
+        compare(greensboro_weather, [ROOF], ["white_render"], "etics_wall", response="steady",
+                temp_indoor=[1.0, 2.0, 3.0])
