@@ -24,6 +24,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import logging
+import os
 import shutil
 import sys
 import tempfile
@@ -69,18 +70,51 @@ def make_climates(folder: Path, n: int) -> list[Path]:
     return out
 
 
+OPTIONS: dict = {"response": None, "construction": None, "dew": None}
+
+
 def portfolio(climates: list[Path], out: Path, response: str | None):
     from solair.portfolio import portfolio_from_dict
 
     models = {} if response is None else {"response": response}
-    pf = portfolio_from_dict({
+    if OPTIONS["dew"] is not None:
+        models["dew"] = OPTIONS["dew"]
+    data = {
         "name": "bench",
         "climates": [{"path": str(p)} for p in climates],
         "surfaces": {"set": "orientations_17"},
         "finishes": [{"name": f} for f in FINISHES],
         "models": models,
-    }, source=str(out / "bench.toml"))
+    }
+    if OPTIONS["construction"]:
+        data["construction"] = OPTIONS["construction"]
+    pf = portfolio_from_dict(data, source=str(out / "bench.toml"))
     return pf.resolve(out)
+
+
+def profile_one(path: Path, response: str | None, tmp: Path, top: int = 14) -> None:
+    """Where the time of one task goes (cProfile, cumulative)."""
+    import cProfile
+    import io
+    import pstats
+
+    from solair import batch
+
+    res = portfolio([path], tmp, response)
+    (tmp / "climates").mkdir(parents=True, exist_ok=True)
+    task = {"label": "p", "path": str(path), "out_dir": str(tmp), "settings": res.settings,
+            "config_hash": "bench"}
+    prof = cProfile.Profile()
+    prof.enable()
+    batch.run_climate(task)
+    prof.disable()
+    text = io.StringIO()
+    pstats.Stats(prof, stream=text).sort_stats("cumulative").print_stats(top)
+    lines = [ln for ln in text.getvalue().splitlines() if ln.strip()]
+    start = next(i for i, ln in enumerate(lines) if ln.lstrip().startswith("ncalls"))
+    print("\nprofile of one task (cumulative s):")
+    for ln in lines[start:start + top + 1]:
+        print("  " + ln.strip()[:150])
 
 
 def stage_times(climates: list[Path], response: str | None, tmp: Path) -> dict[str, float]:
@@ -149,11 +183,15 @@ def main(argv: list[str] | None = None) -> None:
     ap.add_argument("--climates", type=int, default=200)
     ap.add_argument("--small", type=int, default=50, help="climates of the first memory point")
     ap.add_argument("--response", default=None, help="response model passed to compare()")
+    ap.add_argument("--construction", default=None, help="library construction (default none)")
+    ap.add_argument("--no-dew", action="store_true", help="dew and frost off")
     ap.add_argument("--keep-files", action="store_true")
     ap.add_argument("--weather-dir", default=None,
                     help="folder to generate (or reuse) the weather variants in")
     args = ap.parse_args(argv)
     warnings.simplefilter("ignore")
+    OPTIONS.update(construction=args.construction, dew=False if args.no_dew else None)
+    print(f"load average at start: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores")
 
     tmp = Path(tempfile.mkdtemp(prefix="solair-bench-batch-"))
     try:
@@ -162,12 +200,15 @@ def main(argv: list[str] | None = None) -> None:
         weather.mkdir(parents=True, exist_ok=True)
         climates = make_climates(weather, args.climates)
         print(f"generated {len(climates)} climate-years in {time.perf_counter() - t0:.1f} s "
-              f"(17 surfaces x {len(FINISHES)} finishes each; response={args.response})")
+              f"(17 surfaces x {len(FINISHES)} finishes each; response={args.response}, "
+              f"construction={args.construction}, dew={'off' if args.no_dew else 'on'})")
 
         stages = stage_times(climates[:4], args.response, tmp / "stages")
         print("\nper climate-year, in-process (median of 4):")
         for k, v in stages.items():
             print(f"  {k:<22} {v * 1000:8.0f} ms")
+
+        profile_one(climates[0], args.response, tmp / "profile")
 
         n = len(climates)
         t1, rss1 = run_on_cluster(climates, 1, tmp / "w1", args.response)
@@ -185,6 +226,7 @@ def main(argv: list[str] | None = None) -> None:
         growth = max(rss2) / max(rss_small) - 1.0
         print(f"  growth {args.small} -> {n}: {growth * 100:+.1f} %   (target within 10 %)")
         print(f"  1-worker run, after {n}: {', '.join(f'{r:.0f}' for r in rss1)}")
+        print(f"load average at the end: {os.getloadavg()[0]:.2f}")
     finally:
         if args.keep_files:
             print(f"\nfiles kept in {tmp}")

@@ -294,71 +294,6 @@ class _Manifest:
         self._fh.close()
 
 
-# --------------------------------------------------------------------------- progress
-
-class _Progress:
-    """A progress bar with ETA on a terminal; one log line per finished task otherwise."""
-
-    def __init__(self, total: int, stream: TextIO | None, tty: bool | None = None):
-        self.total, self.stream = total, stream
-        self.tty = bool(tty if tty is not None else (stream is not None and stream.isatty()))
-        self.count = {"done": 0, "skipped": 0, "failed": 0}
-        self.t0 = time.monotonic()
-        self.n_run = 0
-
-    def _finished(self) -> int:
-        return sum(self.count.values())
-
-    def skip(self, n: int) -> None:
-        self.count["skipped"] += n
-        if self.stream is not None and n and not self.tty:
-            print(f"solair batch: {n} climate(s) unchanged since the last run, skipped",
-                  file=self.stream, flush=True)
-        self._draw()
-
-    def update(self, rec: dict[str, Any]) -> None:
-        self.count[rec["status"]] += 1
-        self.n_run += 1
-        if self.stream is None:
-            return
-        if self.tty:
-            self._draw()
-            if rec["status"] == "failed":
-                self.stream.write("\r\x1b[K" + f"failed: {rec['label']}: {rec['error']}\n")
-                self._draw()
-        else:
-            n = self._finished()
-            what = f"{rec['status']} {rec['label']} ({rec.get('seconds', 0):.1f} s)"
-            if rec["status"] == "failed":
-                what += f": {rec['error']}"
-            print(f"solair batch: [{n}/{self.total}] {what}", file=self.stream, flush=True)
-
-    def _draw(self) -> None:
-        if self.stream is None or not self.tty:
-            return
-        n, width = self._finished(), 30
-        frac = n / self.total if self.total else 1.0
-        bar = "#" * int(width * frac) + "." * (width - int(width * frac))
-        elapsed = time.monotonic() - self.t0
-        left = self.total - n
-        eta = "--:--" if self.n_run == 0 else _hms(elapsed / self.n_run * left)
-        c = self.count
-        self.stream.write(f"\r[{bar}] {n}/{self.total} done {c['done']} skipped {c['skipped']} "
-                          f"failed {c['failed']} elapsed {_hms(elapsed)} ETA {eta}\x1b[K")
-        self.stream.flush()
-
-    def close(self) -> None:
-        if self.stream is not None and self.tty:
-            self._draw()
-            self.stream.write("\n")
-            self.stream.flush()
-
-
-def _hms(seconds: float) -> str:
-    s = int(round(seconds))
-    return f"{s // 3600:d}:{s % 3600 // 60:02d}:{s % 60:02d}"
-
-
 # --------------------------------------------------------------------------- the run
 
 @dataclass
@@ -392,9 +327,7 @@ def run_portfolio(
     scheduler_file: str | None = None,
     force: bool = False,
     memory_limit: str | float | None = "auto",
-    progress: TextIO | None = None,
-    tty: bool | None = None,
-    _task: Callable[[dict[str, Any]], dict[str, Any]] | None = None,
+    progress: Any = None,
 ) -> BatchResult:
     """Run every climate of a resolved portfolio; stream results to disk as tasks finish.
 
@@ -414,9 +347,11 @@ def run_portfolio(
     memory_limit : str or float
         Memory limit per local worker (dask syntax, e.g. "4GiB"; "auto" shares
         the machine's memory among the workers).
-    progress : text stream, optional
-        Where to report progress (a bar with ETA on a terminal, one line per task
-        otherwise); None keeps quiet.
+    progress : object, optional
+        Told of progress: ``progress.skip(n)`` once with the number of unchanged
+        climates, ``progress.update(record)`` as each task finishes,
+        ``progress.close()`` at the end (e.g. :class:`solair.cli.batch.Progress`);
+        None keeps quiet.
 
     Returns
     -------
@@ -472,7 +407,7 @@ def run_portfolio(
             tasks.append(task)
 
     manifest = _Manifest(out_dir / MANIFEST)
-    bar = _Progress(len(portfolio.climates), progress, tty)
+    bar = progress if progress is not None else _Quiet()
     try:
         manifest.write({"event": "run", "portfolio": portfolio.name, "source": portfolio.source,
                         "config_sha256": cfg_hash, "settings": portfolio.settings,
@@ -498,11 +433,11 @@ def run_portfolio(
         if tasks:
             if workers == 0:
                 for task in tasks:
-                    finish(_started(_task or run_climate, task))
+                    finish(_started(run_climate, task))
             else:
                 _run_on_dask(tasks, finish, workers=workers, scheduler=scheduler,
                              scheduler_file=scheduler_file, memory_limit=memory_limit,
-                             client_versions=vers, task_fn=_task or run_climate)
+                             client_versions=vers)
     finally:
         bar.close()
         manifest.close()
@@ -511,6 +446,17 @@ def run_portfolio(
     result.summary_csv, result.summary_parquet = _write_summary(out_dir, ok)
     result.seconds = time.monotonic() - t0
     return result
+
+
+class _Quiet:
+    def skip(self, n: int) -> None:
+        pass
+
+    def update(self, rec: dict[str, Any]) -> None:
+        pass
+
+    def close(self) -> None:
+        pass
 
 
 def _now() -> str:
@@ -641,8 +587,7 @@ def _cores() -> int:
 
 def _run_on_dask(tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]], None], *,
                  workers: int | None, scheduler: str | None, scheduler_file: str | None,
-                 memory_limit: str | float | None, client_versions: dict[str, str],
-                 task_fn: Callable[[dict[str, Any]], dict[str, Any]]) -> None:
+                 memory_limit: str | float | None, client_versions: dict[str, str]) -> None:
     from distributed import as_completed
 
     with _client(workers=workers, scheduler=scheduler, scheduler_file=scheduler_file,
@@ -654,7 +599,7 @@ def _run_on_dask(tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]],
         by_future: dict[Any, dict[str, Any]] = {}
 
         def submit(task: dict[str, Any]):
-            fut = client.submit(_started, task_fn, task, pure=False,
+            fut = client.submit(_started, run_climate, task, pure=False,
                                 key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
             by_future[fut] = task
             return fut

@@ -27,13 +27,13 @@ from click.testing import CliRunner
 
 from solair.batch import (
     _Manifest,
-    _Progress,
     atomic_write,
     check_version_skew,
     read_manifest,
     run_portfolio,
 )
 from solair.cli import cli
+from solair.cli.batch import Progress
 from solair.errors import ConfigurationError
 from solair.portfolio import load_portfolio
 
@@ -415,7 +415,7 @@ def test_manifest_survives_a_torn_last_line(tmp_path):
 
 def test_progress_lines_when_not_a_terminal():
     stream = io.StringIO()
-    bar = _Progress(3, stream, tty=False)
+    bar = Progress(3, stream, tty=False)
     bar.skip(1)
     bar.update({"label": "a", "status": "done", "seconds": 1.25})
     bar.update({"label": "b", "status": "failed", "seconds": 0.1, "error": "b.csv: bad"})
@@ -431,7 +431,7 @@ def test_progress_lines_when_not_a_terminal():
 
 def test_progress_bar_on_a_terminal():
     stream = io.StringIO()
-    bar = _Progress(4, stream, tty=True)
+    bar = Progress(4, stream, tty=True)
     bar.update({"label": "a", "status": "done", "seconds": 1.0})
     bar.close()
     text = stream.getvalue()
