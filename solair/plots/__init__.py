@@ -260,12 +260,12 @@ def draw(result: xr.Dataset | pd.DataFrame, kind: str, *,
         return figures.finishes_figure(table, site=site, surfaces=surfaces,
                                        metric_names=([m.strip() for m in metric.split(",")]
                                                      if metric else None))
+    table = shaping.metrics_from_table(result)
     if metric is None:
-        numeric = sorted(c for c in result.columns if c not in ("climate", "surface", "finish")
-                         and pd.api.types.is_numeric_dtype(result[c]))
+        numeric = sorted(c for c in table.columns if c not in ("climate", "surface", "finish")
+                         and pd.api.types.is_numeric_dtype(table[c]) and table[c].notna().any())
         raise ConfigurationError(f"plot kind 'portfolio' needs --metric, one of {numeric}")
-    return figures.portfolio_figure(shaping.metrics_from_table(result), metric, finish=finish,
-                                    surfaces=surfaces)
+    return figures.portfolio_figure(table, metric, finish=finish, surfaces=surfaces)
 
 
 def _unused(kind: str, **options: Any) -> None:

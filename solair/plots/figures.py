@@ -260,6 +260,12 @@ def carpet_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     return fig
 
 
+def _rotation(labels: Sequence[Any]) -> float:
+    """Tick label rotation: upright while the labels fit side by side on 7.5 in."""
+    width = sum(len(str(x)) + 2 for x in labels)
+    return 0.0 if width <= 90 else 45.0
+
+
 def _colours(n: int) -> list[Any]:
     cmap = matplotlib.colormaps["tab10" if n <= 10 else "tab20"]
     return [cmap(i % cmap.N) for i in range(n)]
@@ -364,8 +370,8 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
         if col not in metrics.columns:
             raise ConfigurationError(f"metrics table has no {col!r} column; columns are "
                                      f"{list(metrics.columns)}")
-    numeric = [c for c in metrics.columns if c not in ("surface", "finish")
-               and pd.api.types.is_numeric_dtype(metrics[c])]
+    numeric = [c for c in metrics.columns if c not in ("climate", "surface", "finish")
+               and pd.api.types.is_numeric_dtype(metrics[c]) and metrics[c].notna().any()]
     if metric_names is None:
         metric_names = [m for m in shaping.FINISH_METRICS if m in numeric] or numeric[:3]
     unknown = [m for m in metric_names if m not in numeric]
@@ -416,7 +422,7 @@ def finishes_figure(metrics: pd.DataFrame, *, site: str = "",
         ax.axhline(0.0, color="black", lw=0.6)
         ax.margins(y=0.12)
     axes[-1].set_xticks(x)
-    axes[-1].set_xticklabels(all_surfaces, rotation=0 if len(all_surfaces) <= 9 else 45)
+    axes[-1].set_xticklabels(all_surfaces, rotation=_rotation(all_surfaces))
     axes[-1].set_xlabel("Surface")
     handles, texts = axes[0].get_legend_handles_labels()
     panel.legend(handles, texts, loc="outside lower center", ncols=min(len(finishes), 4),
@@ -443,7 +449,7 @@ def portfolio_figure(table: pd.DataFrame, metric: str, *, finish: str | None = N
     image = ax.imshow(values, aspect="auto", cmap="YlOrRd", interpolation="nearest")
     ax.grid(False)
     ax.set_xticks(range(n_cols))
-    ax.set_xticklabels([str(c) for c in grid.columns], rotation=0 if n_cols <= 9 else 45)
+    ax.set_xticklabels([str(c) for c in grid.columns], rotation=_rotation(grid.columns))
     ax.set_yticks(range(n_rows))
     ax.set_yticklabels([str(r) for r in grid.index])
     ax.set_xlabel("Surface")

@@ -340,7 +340,7 @@ def portfolio_grid(table: pd.DataFrame, metric: str, *, finish: str | None = Non
                                      f"{list(table.columns)}")
     numeric = [c for c in table.columns
                if c not in ("climate", "surface", "finish")
-               and pd.api.types.is_numeric_dtype(table[c])]
+               and pd.api.types.is_numeric_dtype(table[c]) and table[c].notna().any()]
     if metric not in numeric:
         raise ConfigurationError(f"metric {metric!r} is not one of {sorted(numeric)}")
     if "finish" in table.columns:
