@@ -401,6 +401,30 @@ def _metrics_table(frame: pd.DataFrame, caption: str) -> str:
             + f'<ul class="meta">{"".join(defs)}</ul>' + more)
 
 
+_SUMMARY_METRICS = ("peak_temperature", "hours_below_dew_point", "heat_gain")
+
+
+def _summary_tables(frame: pd.DataFrame) -> str:
+    """Portfolio summary as climate x surface tables of the key metrics, one per finish."""
+    table = shaping.metrics_from_table(frame)
+    metrics = [m for m in _SUMMARY_METRICS if m in table.columns and table[m].notna().any()]
+    if not metrics:
+        return _metrics_table(frame, "Portfolio summary")
+    finishes = list(dict.fromkeys(table["finish"])) if "finish" in table.columns else [None]
+    out = ['<p class="meta">Key metrics per climate (rows) and surface (columns); the summary '
+           "file holds every metric per climate, surface and finish.</p>"]
+    for metric in metrics:
+        label, unit = shaping.metric_label(metric)
+        for fin in finishes:
+            grid = shaping.portfolio_grid(table, metric, finish=fin)
+            grid.index.name = "climate"
+            grid.columns = [str(c) for c in grid.columns]
+            caption = f"{label}" + (f" [{unit}]" if unit else "") + (f", finish {fin}"
+                                                                      if fin else "")
+            out.append(_table(grid, digits=0 if metric != "heat_gain" else 1, caption=caption))
+    return "".join(out)
+
+
 def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) -> str:
     out = []
     has_table = any(detect_result_type(r) == "metrics" for _, r in results)
@@ -426,9 +450,11 @@ def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
                                           "peak [°C], hours below the air dew point [h], "
                                           "heat gain [kWh/m²]"))
         else:
-            label = "Portfolio summary" if rtype == "summary" else "Finish metrics"
             out.append(f"<h3>{_e(name)}</h3>")
-            out.append(_metrics_table(res, label))
+            if rtype == "summary":
+                out.append(_summary_tables(res))
+            else:
+                out.append(_metrics_table(res, "Finish metrics"))
     return "".join(out)
 
 

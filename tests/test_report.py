@@ -102,6 +102,9 @@ def test_report_tables_match_the_data(results, page):
                                      "Sep", "Oct", "Nov", "Dec"], "year"]
     assert_allclose(monthly.loc["year", "air"], run["temp_air"].mean(), atol=1e-12)
     assert "Design values" in page and "Monthly mean" in page and "Finish metrics" in page
+    # the portfolio summary as a climate x surface table per finish
+    assert "<caption>Peak temperature [°C], finish black</caption>" in page
+    assert '<td class="t">beta</td><td>51</td><td>52</td>' in page
 
 
 def test_every_offered_model_has_a_published_source():
