@@ -374,6 +374,15 @@ def run_portfolio(
             "--scheduler-file (the cluster decides its own workers)")
     if workers is None and not (scheduler or scheduler_file):
         scheduler = os.environ.get("DASK_SCHEDULER_ADDRESS") or None
+    if isinstance(memory_limit, str) and memory_limit != "auto":
+        from dask.utils import parse_bytes
+
+        try:
+            parse_bytes(memory_limit)
+        except ValueError:
+            raise ConfigurationError(
+                f"--memory-limit = {memory_limit!r}: not a size; give e.g. '4GiB', '2000MB' or "
+                f"'auto'") from None
 
     out_dir = Path(portfolio.output_dir)
     try:

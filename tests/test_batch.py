@@ -263,7 +263,7 @@ def test_sigkill_leaves_no_truncated_output(estate, cluster_run, tmp_path):
     try:
         deadline = time.monotonic() + 120
         while time.monotonic() < deadline and proc.poll() is None:
-            if len(nc_files(out)) >= 2 if out.exists() else False:
+            if out.exists() and len(nc_files(out)) >= 2:
                 break
             time.sleep(0.02)
         assert proc.poll() is None, "the run ended before it could be killed"
@@ -308,7 +308,16 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
         monkeypatch.setenv("DASK_SCHEDULER_ADDRESS", cluster.scheduler_address)
         result = run_cli([str(pf), "--force", "-o", str(tmp_path / "b")])
         assert "3 done, 0 skipped, 0 failed" in result.output, result.output
+        monkeypatch.delenv("DASK_SCHEDULER_ADDRESS")
+        from distributed import Client
+
+        with Client(cluster) as client:
+            client.write_scheduler_file(str(tmp_path / "scheduler.json"))
+        result = run_cli([str(pf), "--scheduler-file", str(tmp_path / "scheduler.json"),
+                          "-o", str(tmp_path / "c")])
+        assert "3 done, 0 skipped, 0 failed" in result.output, result.output
     assert_same_results(tmp_path / "a", tmp_path / "b")
+    assert_same_results(tmp_path / "a", tmp_path / "c")
 
 
 # --------------------------------------------------------------------------- fast checks
@@ -347,6 +356,9 @@ def test_conflicting_options_exit_2(estate, tmp_path):
     assert "cannot be combined with --scheduler" in result.output
     result = CliRunner().invoke(cli, ["batch", str(pf), "--workers", "-1", "-o", str(tmp_path)])
     assert result.exit_code == 2 and "--workers = -1" in result.output
+    result = CliRunner().invoke(cli, ["batch", str(pf), "--memory-limit", "lots", "-o",
+                                      str(tmp_path)])
+    assert result.exit_code == 2 and "--memory-limit = 'lots': not a size" in result.output
 
 
 def test_unreachable_scheduler_exit_2(estate, tmp_path, monkeypatch):

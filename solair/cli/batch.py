@@ -67,8 +67,9 @@ class Progress:
         left = self.total - n
         eta = "--:--" if self.n_run == 0 else _hms(elapsed / self.n_run * left)
         c = self.count
-        self.stream.write(f"\r[{bar}] {n}/{self.total} done {c['done']} skipped {c['skipped']} "
-                          f"failed {c['failed']} elapsed {_hms(elapsed)} ETA {eta}\x1b[K")
+        self.stream.write(f"\r[{bar}] {n}/{self.total} | done {c['done']}, skipped "
+                          f"{c['skipped']}, failed {c['failed']} | elapsed {_hms(elapsed)} | "
+                          f"ETA {eta}\x1b[K")
         self.stream.flush()
 
     def close(self) -> None:
@@ -88,7 +89,8 @@ def _hms(seconds: float) -> str:
 @click.option("--check", is_flag=True,
               help="Validate the portfolio file (schema, files, globs, names) and stop.")
 @click.option("--workers", type=int, default=None, metavar="N",
-              help="Local worker processes (default: one per core); 0 runs serially in-process.")
+              help="Local worker processes (default: one per core); 0 runs serially in-process. "
+                   "Given, it wins over $DASK_SCHEDULER_ADDRESS.")
 @click.option("--scheduler", metavar="ADDRESS", default=None,
               help="Address of an existing dask.distributed scheduler, e.g. tcp://host:8786 "
                    "(default: $DASK_SCHEDULER_ADDRESS if set).")
@@ -107,8 +109,10 @@ def batch(portfolio: str, check: bool, workers: int | None, scheduler: str | Non
     Writes, in the output folder, one NetCDF per climate (time x surface x
     finish) under climates/, summary.csv (and summary.parquet when pyarrow is
     installed) of the metrics per climate x surface x finish, and manifest.jsonl.
-    Unchanged climates are skipped on a rerun. Results are an engineering
-    estimate; verify against local codes and licensed professional practice.
+    Unchanged climates are skipped on a rerun. Exit status 0 when every
+    climate is done or skipped, 1 when any failed, 2 for a configuration
+    error. Results are an engineering estimate; verify against local codes
+    and licensed professional practice.
     """
     from solair.portfolio import load_portfolio
 
