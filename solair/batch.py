@@ -363,7 +363,6 @@ def run_portfolio(
         Conflicting options, a scheduler that cannot be reached, or versions that
         differ between the client and the workers.
     """
-    t0 = time.monotonic()
     if scheduler and scheduler_file:
         raise ConfigurationError("give either --scheduler or --scheduler-file, not both")
     if workers is not None and workers < 0:
@@ -390,6 +389,33 @@ def run_portfolio(
     except OSError as exc:
         raise ConfigurationError(f"output = {str(out_dir)!r}: cannot create the folder "
                                  f"({exc.strerror})") from None
+    with _folder_lock(out_dir):
+        return _run(portfolio, out_dir, workers=workers, scheduler=scheduler,
+                    scheduler_file=scheduler_file, force=force, memory_limit=memory_limit,
+                    progress=progress)
+
+
+@contextlib.contextmanager
+def _folder_lock(out_dir: Path) -> Iterator[None]:
+    """One run per output folder at a time (an flock the OS drops if the run is killed)."""
+    import fcntl
+
+    fh = open(out_dir / ".solair-batch.lock", "a+")
+    try:
+        try:
+            fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except OSError:
+            raise ConfigurationError(
+                f"output = {str(out_dir)!r}: another solair batch is running on this folder; "
+                f"wait for it or give another --output") from None
+        yield
+    finally:
+        fh.close()
+
+
+def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, scheduler_file,
+         force, memory_limit, progress) -> BatchResult:
+    t0 = time.monotonic()
     _remove_stale_temporaries(out_dir)
     cfg_hash = portfolio.config_hash
     vers = versions()

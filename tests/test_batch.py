@@ -497,3 +497,17 @@ def test_hourly_subset_float32_and_kept_metrics(tmp_path, pvlib_data_dir):
     before = load_portfolio(pf).resolve().config_hash
     pf.write_text(text.replace('dtype = "float32"', 'dtype = "float64"'), encoding="utf-8")
     assert load_portfolio(pf).resolve().config_hash != before
+
+
+def test_one_run_per_output_folder(tmp_path, estate):
+    """A second run on a folder that a live run holds is refused (the lock dies with the run)."""
+    import fcntl
+
+    out = tmp_path / "busy"
+    (out / "climates").mkdir(parents=True)
+    with open(out / ".solair-batch.lock", "a+") as fh:
+        fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        result = CliRunner().invoke(cli, ["batch", str(estate / "portfolio.toml"), "--workers",
+                                          "0", "-o", str(out)])
+    assert result.exit_code == 2
+    assert "another solair batch is running on this folder" in result.output
