@@ -214,4 +214,4 @@ def test_report_of_real_compare_and_batch_outputs(tmp_path):
     assert all(data[:8] == PNG_SIGNATURE for data in images)
     assert "insulated_membrane_roof" in page  # the construction behind the finishes
     assert html.escape(report.MODEL_SOURCES["sri"]) in page
-    assert "Portfolio summary" in page and "piedmont" in page
+    assert "Key metrics per climate" in page and "<td class=\"t\">piedmont</td>" in page
