@@ -6,12 +6,14 @@ import numpy as np
 import pandas as pd
 import pytest
 import xarray as xr
+from hypothesis import given
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 import solair
 from solair import engine
 from solair.errors import ConfigurationError
-from solair.surfaces import Surface, default_surfaces
+from solair.surfaces import Surface, default_surfaces, parse_surface
 
 
 @pytest.fixture(scope="module")
@@ -240,3 +242,41 @@ def test_surface_linearisation_is_the_adiabatic_surface_temperature(greensboro_w
         view_sky=1.0, view_air=0.0, view_ground=0.0,
     )
     assert np.abs(r).max() < 1e-3  # W/m2, i.e. well inside 1e-6 K x h_e
+
+
+# --- surfaces (solair.surfaces) ---------------------------------------------------------
+
+
+def test_default_surfaces_are_the_roof_and_eight_facades():
+    s = default_surfaces()
+    assert [x.name for x in s] == ["roof", "N", "NE", "E", "SE", "S", "SW", "W", "NW"]
+    assert s[0].surface_tilt == 0.0
+    assert [x.surface_azimuth for x in s[1:]] == [0, 45, 90, 135, 180, 225, 270, 315]
+    assert all(x.surface_tilt == 90.0 for x in s[1:])
+
+
+@given(tilt=st.floats(0, 180), azimuth=st.floats(0, 360), a=st.floats(0, 1), e=st.floats(0, 1))
+def test_valid_surfaces_round_trip_through_the_cli_form(tilt, azimuth, a, e):
+    s = parse_surface(f"wall,{tilt!r},{azimuth!r}", a, e)
+    assert (s.surface_tilt, s.surface_azimuth, s.absorptance, s.emissivity) == (tilt, azimuth, a, e)
+
+
+@pytest.mark.parametrize(
+    "kwargs, field",
+    [(dict(surface_tilt=-1), "surface_tilt"), (dict(surface_tilt=181), "surface_tilt"),
+     (dict(surface_azimuth=361), "surface_azimuth"), (dict(absorptance=1.2), "absorptance"),
+     (dict(emissivity=-0.1), "emissivity"), (dict(surface_tilt="steep"), "surface_tilt"),
+     (dict(absorptance=float("nan")), "absorptance")],
+)
+def test_invalid_surface_names_the_field(kwargs, field):
+    base = dict(name="x", surface_tilt=0.0, surface_azimuth=0.0)
+    with pytest.raises(ConfigurationError, match=f"surface 'x': {field} = "):
+        Surface(**{**base, **kwargs})
+
+
+def test_parse_surface_errors_and_compass_points():
+    assert parse_surface("w,90,SW").surface_azimuth == 225.0
+    with pytest.raises(ConfigurationError, match="NAME,TILT,AZIMUTH"):
+        parse_surface("w,90")
+    with pytest.raises(ConfigurationError, match="non-empty"):
+        parse_surface(" ,90,0")
