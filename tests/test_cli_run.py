@@ -45,6 +45,13 @@ def test_run_each_real_file_gives_a_sensible_year(which, extra, request, tmp_pat
     assert tsa.min().min() > ta.min() - 30 and tsa.max().max() < ta.max() + 70
     # sunny facades: the south wall beats the north wall on average in the northern hemisphere
     assert tsa["temp_sol_air[S] (°C)"].mean() > tsa["temp_sol_air[N] (°C)"].mean()
+    # the same run as NetCDF reopens with xarray and holds the same values
+    nc = tmp_path / "year.nc"
+    assert _run(path, "-o", nc, *extra).exit_code == 0
+    with xr.open_dataset(nc, engine="h5netcdf") as ds:
+        np.testing.assert_allclose(ds["temp_sol_air"].sel(surface="roof").values,
+                                   df["temp_sol_air[roof] (°C)"], rtol=1e-5, atol=1e-4)
+        assert ds.sizes["time"] == 8760 and ds.attrs["weather_format"] in ("epw", "tmy3", "tmy2")
 
 
 def test_run_netcdf_monthly_design_round_trip(greensboro_path, greensboro_weather, tmp_path):
