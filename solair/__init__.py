@@ -18,10 +18,15 @@ _LAZY = {
     "read_weather": "solair.weather",
     "Weather": "solair.weather",
     "Site": "solair.weather",
+    "WeatherWarning": "solair.weather",
     "Surface": "solair.surfaces",
     "default_surfaces": "solair.surfaces",
     "compute": "solair.engine",
     "exterior_forcing": "solair.engine",
+    "sol_air": "solair.engine",
+    "compare": "solair.compare",
+    "Finish": "solair.finishes",
+    "load_finishes": "solair.finishes",
 }
 
 __all__ = [
