@@ -30,10 +30,10 @@ class _LazyGroup(click.Group):
     """A click group whose subcommands are imported on first use."""
 
     def list_commands(self, ctx: click.Context) -> list[str]:
-        return [name for name in COMMANDS if _available(name)]
+        return list(COMMANDS)
 
     def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
-        if cmd_name not in COMMANDS or not _available(cmd_name):
+        if cmd_name not in COMMANDS:
             return None
         module, attr, _ = COMMANDS[cmd_name]
         return getattr(importlib.import_module(module), attr)
@@ -43,11 +43,6 @@ class _LazyGroup(click.Group):
         if rows:
             with formatter.section("Commands"):
                 formatter.write_dl(rows)
-
-
-def _available(name: str) -> bool:
-    spec = importlib.util.find_spec(COMMANDS[name][0])
-    return spec is not None
 
 
 class _SolairCommandGroup(_LazyGroup):
