@@ -17,10 +17,14 @@ from solair.errors import SolairError
 
 # command name -> (module, attribute, one-line help shown by `solair --help`)
 COMMANDS: dict[str, tuple[str, str, str]] = {
-    "info": ("solair.cli.info", "info", "Vet a weather file: site, period, fills and ranges per field."),
-    "run": ("solair.cli.run", "run", "Hourly sol-air temperature and R_se per surface, as CSV or NetCDF."),
-    "compare": ("solair.cli.compare", "compare", "Compare finishes: surface response and risk metrics per surface."),
-    "batch": ("solair.cli.batch", "batch", "Run a portfolio of climates x surfaces x finishes (dask)."),
+    "info": ("solair.cli.info", "info",
+             "Vet a weather file: site, period, fills and ranges per field."),
+    "run": ("solair.cli.run", "run",
+            "Hourly sol-air temperature and R_se per surface, as CSV or NetCDF."),
+    "compare": ("solair.cli.compare", "compare",
+                "Compare finishes: surface response and risk metrics per surface."),
+    "batch": ("solair.cli.batch", "batch",
+              "Run a portfolio of climates x surfaces x finishes (dask)."),
     "plot": ("solair.cli.plot", "plot", "Draw a figure from a run, compare or batch result."),
     "report": ("solair.cli.report", "report", "Write a self-contained HTML report from results."),
 }
