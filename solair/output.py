@@ -15,12 +15,24 @@ variables without a ``surface`` dimension come next (``temp_air (°C)``,
 ``temp_sky (°C)``, ``sky_source``), then per-surface columns named
 ``variable[surface] (unit)``, e.g. ``temp_sol_air[roof] (°C)``. Variables with
 further dimensions (e.g. ``finish``) are labelled ``variable[surface|finish]``.
+
+The table is preceded by a short block of metadata lines, each starting with
+``# ``: what the file is, the caution, the site, the time convention, each
+surface (tilt, azimuth, absorptance, emissivity), the models and the hours per
+sky source, and last a ``# solair record (JSON): {...}`` line holding the
+global attributes, the per-surface coordinates and the variable attributes
+exactly (read back by :func:`read_csv_metadata`). Read the table with
+``pandas.read_csv(path, comment="#")`` (``numpy.genfromtxt`` skips ``#`` lines
+by default; in R, ``read.csv(path, comment.char = "#")``). Header fields that
+hold a ``#`` (a surface named ``wall#2``) are quoted, which pandas' default C
+parser respects.
 """
 
 from __future__ import annotations
 
 import contextlib
 import itertools
+import json
 import os
 import uuid
 from pathlib import Path
@@ -37,6 +49,9 @@ __all__ = [
     "to_table",
     "write_result",
     "write_table",
+    "read_csv_metadata",
+    "csv_metadata_lines",
+    "CSV_RECORD_PREFIX",
     "monthly_means",
     "design_values",
     "atomic_path",
@@ -45,6 +60,10 @@ __all__ = [
 #: File suffix -> format written by :func:`write_result`.
 OUTPUT_FORMATS = {".csv": "csv", ".nc": "netcdf"}
 
+#: Start of the metadata line of a result CSV that holds the JSON record.
+CSV_RECORD_PREFIX = "# solair record (JSON): "
+
+_CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 _UNIT_TEXT = {"degC": "°C", "1": "-"}
 _FLOAT_FORMAT = "%.6g"
 
@@ -189,9 +208,12 @@ def _netcdf_ready(ds: xr.Dataset) -> xr.Dataset:
 def write_result(ds: xr.Dataset, path: str | os.PathLike) -> Path:
     """Write a result dataset to CSV or NetCDF, chosen by the suffix (.csv or .nc).
 
-    * ``.csv``: the wide table of :func:`to_table` with ``time_local`` (local
-      standard time, ISO 8601 with offset) as first column; UTF-8; values
-      with 6 significant digits.
+    * ``.csv``: the metadata lines of :func:`csv_metadata_lines` (each
+      starting with ``# ``), then the wide table of :func:`to_table` with
+      ``time_local`` (local standard time, ISO 8601 with offset) as first
+      column; UTF-8; values with 6 significant digits. Read it with
+      ``pandas.read_csv(path, comment="#")``; :func:`read_csv_metadata`
+      returns the provenance record.
     * ``.nc``: netCDF4 through ``engine="h5netcdf"``; ``time`` stays naive
       UTC (CF units "hours since ..."), the offset is the global attribute
       ``utc_offset_hours``.
@@ -210,14 +232,161 @@ def write_result(ds: xr.Dataset, path: str | os.PathLike) -> Path:
         table = to_table(ds, "time")
         times = local_time(ds)
         table.insert(0, "time_local", times.strftime("%Y-%m-%dT%H:%M:%S") + _iso_offset(times))
+        head = [*csv_metadata_lines(ds, _iso_offset(times)), _header_line(table.columns)]
         with atomic_path(path) as tmp:
-            table.to_csv(tmp, index=False, float_format=_FLOAT_FORMAT, encoding="utf-8")
+            with open(tmp, "w", encoding="utf-8", newline="") as fh:
+                fh.write("\n".join(head) + "\n")
+            table.to_csv(tmp, mode="a", header=False, index=False, float_format=_FLOAT_FORMAT,
+                         encoding="utf-8", lineterminator="\n")
     else:
         out = _netcdf_ready(ds)
         out["time"].encoding.update({"units": "hours since 2001-01-01 00:00:00", "dtype": "int64"})
         with atomic_path(path) as tmp:
             out.to_netcdf(tmp, engine="h5netcdf")
     return path
+
+
+def _header_line(columns) -> str:
+    """The CSV header row; fields holding a separator, quote or '#' are quoted."""
+    out = []
+    for col in map(str, columns):
+        if any(ch in col for ch in ',"#\n\r'):
+            col = '"' + col.replace('"', '""') + '"'
+        out.append(col)
+    return ",".join(out)
+
+
+def _jsonable(value):
+    if isinstance(value, np.ndarray):
+        return [_jsonable(v) for v in value.tolist()]
+    if isinstance(value, list | tuple):
+        return [_jsonable(v) for v in value]
+    if isinstance(value, dict):
+        return {str(k): _jsonable(v) for k, v in value.items()}
+    if isinstance(value, np.bool_ | bool):
+        return bool(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    if isinstance(value, np.floating | float):
+        v = float(value)
+        return v if np.isfinite(v) else None
+    if isinstance(value, int | str) or value is None:
+        return value
+    return str(value)
+
+
+def _g(value) -> str:
+    try:
+        return f"{float(value):g}"
+    except (TypeError, ValueError):
+        return str(value)
+
+
+def _positive(value) -> bool:
+    try:
+        return float(value) > 0
+    except (TypeError, ValueError):
+        return False
+
+
+def _one_line(text) -> str:
+    return " ".join(str(text).split())
+
+
+def csv_metadata_lines(ds: xr.Dataset, offset_text: str | None = None) -> list[str]:
+    """The ``# ``-prefixed metadata lines written above the header of a result CSV.
+
+    Human-readable lines first (product and version, caution, site, weather
+    file, time convention, one line per surface and per finish, models, sky
+    sources), then :data:`CSV_RECORD_PREFIX` followed by one JSON object with
+    ``attrs`` (the global attributes), ``coords`` (the 1-D coordinates and
+    time-independent variables other than ``time``, as lists with their
+    dimension) and ``variables`` (each variable's attributes).
+    """
+    a = ds.attrs
+    product = " ".join(("solair", str(a.get("solair_version", "")))).strip()
+    lines = [f"{product} — exterior equivalent (sol-air) temperature and external surface "
+             "resistance R_se", f"caution: {a.get('caution', _CAUTION)}"]
+    if "site_name" in a:
+        where = ", ".join(f"{label} {_g(a[key])}{unit}" for key, label, unit in (
+            ("latitude", "latitude", "°"), ("longitude", "longitude", "° (east positive)"),
+            ("altitude", "altitude", " m")) if key in a)
+        lines.append(f"site: {a['site_name']}" + (f" ({where})" if where else ""))
+    if "weather_file" in a:
+        fmt = a.get("weather_format", a.get("source_format", ""))
+        lines.append(f"weather file: {a['weather_file']}" + (f" ({fmt})" if fmt else ""))
+    if offset_text is None and "utc_offset_hours" in a:
+        offset_text = _iso_offset(local_time(ds))
+    lines.append("time: hour-ending labels (time_local = end of the hour each row covers), "
+                 f"local standard time (UTC{offset_text or ''})")
+    for dim in ("surface", "finish"):
+        if dim not in ds.dims:
+            continue
+        props = [(c, label, unit) for c, label, unit in (
+            ("surface_tilt", "tilt", "°"), ("surface_azimuth", "azimuth", "°"),
+            ("absorptance", "absorptance", ""), ("emissivity", "emissivity", ""),
+            ("sri", "SRI", "")) if c in ds.coords and ds[c].dims == (dim,)]
+        for i, label in enumerate(ds[dim].values):
+            text = ", ".join(f"{name} {_g(ds[c].values[i])}{unit}" for c, name, unit in props)
+            lines.append(f"{dim} {label}" + (f": {text}" if text else ""))
+    models = [(key, label) for key, label in (
+        ("sky_model", "sky"), ("transposition_model", "transposition"),
+        ("convection_model", "convection"), ("linearisation", "linearisation"),
+        ("solar_position_method", "solar position"), ("clear_sky_model", "clear sky"),
+        ("albedo_source", "albedo"), ("temp_ground_source", "ground temperature"),
+        ("terrain", "terrain"), ("response_model", "surface response"),
+        ("construction", "construction")) if key in a]
+    if models:
+        lines.append("models: " + "; ".join(f"{label} {_one_line(a[key])}"
+                                            for key, label in models))
+    sources = [(k[len("sky_source_hours_"):], a[k]) for k in a
+               if str(k).startswith("sky_source_hours_") and _positive(a[k])]
+    if sources:
+        lines.append("sky sources: " + ", ".join(f"{name} {int(n)} h" for name, n in sources))
+    lines.append('reading: pandas.read_csv(path, comment="#") skips these lines')
+    record = {
+        "attrs": _jsonable(dict(a)),
+        "coords": {name: {"dims": list(var.dims), "values": _jsonable(var.values),
+                          "attrs": _jsonable(dict(var.attrs))}
+                   for name, var in ds.variables.items()
+                   if name != "time" and len(var.dims) == 1 and var.dims[0] != "time"},
+        "variables": {name: _jsonable(dict(var.attrs)) for name, var in ds.data_vars.items()
+                      if "time" in var.dims},
+    }
+    out = ["# " + _one_line(line) for line in lines]
+    out.append(CSV_RECORD_PREFIX + json.dumps(record, ensure_ascii=False, allow_nan=False))
+    return out
+
+
+def read_csv_metadata(path: str | os.PathLike) -> dict:
+    """The JSON record from the metadata lines of a result CSV written by :func:`write_result`.
+
+    Returns ``{}`` for a CSV without a record (an older file, or one from
+    another program); otherwise a dict with ``attrs``, ``coords`` and
+    ``variables`` (see :func:`csv_metadata_lines`).
+
+    Raises
+    ------
+    ConfigurationError
+        The record line is present but is not valid JSON.
+    """
+    path = Path(path)
+    with open(path, encoding="utf-8", errors="replace") as fh:
+        for number, line in enumerate(fh, start=1):
+            if not line.startswith("#"):
+                return {}
+            if line.startswith(CSV_RECORD_PREFIX):
+                try:
+                    record = json.loads(line[len(CSV_RECORD_PREFIX):])
+                except json.JSONDecodeError as exc:
+                    raise ConfigurationError(
+                        f"{path}, line {number}: the solair record is not valid JSON ({exc.msg})"
+                    ) from None
+                if not isinstance(record, dict):
+                    raise ConfigurationError(
+                        f"{path}, line {number}: the solair record is not a JSON object")
+                return record
+    return {}
 
 
 def _iso_offset(times: pd.DatetimeIndex) -> str:

@@ -34,7 +34,8 @@ def test_run_each_real_file_gives_a_sensible_year(which, extra, request, tmp_pat
     assert r.exit_code == 0, r.output
     assert "caution: engineering estimate; verify against local codes" in r.stdout
     assert "sky sources:" in r.stdout and str(out) in r.stdout
-    df = pd.read_csv(out)
+    # the metadata lines above the header are '#' comments (see solair.output.write_result)
+    df = pd.read_csv(out, comment="#")
     assert len(df) == 8760
     tsa = df[[c for c in df.columns if c.startswith("temp_sol_air[")]]
     assert tsa.shape[1] == 9

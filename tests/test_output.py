@@ -27,7 +27,7 @@ def test_local_time_is_hour_ending_local_standard_time(result):
 
 def test_csv_round_trip_with_pandas(result, tmp_path):
     path = output.write_result(result, tmp_path / "run.csv")
-    df = pd.read_csv(path)
+    df = pd.read_csv(path, comment="#")
     assert df.columns[0] == "time_local"
     assert df["time_local"].iloc[0] == "2001-01-01T01:00:00-05:00"
     assert "temp_sol_air[roof] (°C)" in df.columns and "r_se[S] (m2 K W-1)" in df.columns
@@ -39,6 +39,51 @@ def test_csv_round_trip_with_pandas(result, tmp_path):
     assert_allclose(df["poa_global[S] (W m-2)"], result["poa_global"].sel(surface="S"),
                     rtol=1e-5, atol=1e-3)
     assert not list(tmp_path.glob(".*.part"))
+
+
+def test_csv_metadata_lines_name_site_surfaces_models_and_caution(result, tmp_path):
+    path = output.write_result(result, tmp_path / "run.csv")
+    lines = path.read_text(encoding="utf-8").splitlines()
+    head = [line for line in lines if line.startswith("#")]
+    # the block sits above the header row and nowhere else
+    assert lines[: len(head)] == head and lines[len(head)].startswith("time_local,")
+    text = "\n".join(head)
+    assert head[0].startswith(f"# solair {solair.__version__} — exterior equivalent (sol-air)")
+    assert "# caution: engineering estimate; verify against local codes and licensed " \
+           "professional practice" in text
+    assert f"# site: {result.attrs['site_name']} (latitude " in text
+    assert "# surface roof: tilt 0°, azimuth 180°, absorptance 0.6, emissivity 0.9" in text
+    assert "# surface S: tilt 90°, azimuth 180°" in text
+    assert "# models: sky auto; transposition perez; convection iso6946" in text
+    assert "local standard time (UTC-05:00)" in text
+    assert "# sky sources: " in text and "sky_cover_clark_allen" in text
+    # the JSON record holds the attributes exactly
+    record = output.read_csv_metadata(path)
+    assert record["attrs"]["site_name"] == result.attrs["site_name"]
+    assert record["attrs"]["latitude"] == float(result.attrs["latitude"])
+    assert record["coords"]["surface_azimuth"]["values"] == [180.0, 180.0]
+    assert record["variables"]["temp_sol_air"]["units"] == "degC"
+
+
+def test_csv_header_with_a_hash_in_a_surface_name_is_quoted(result, tmp_path):
+    # comment="#" cuts a line at any '#' outside quotes: such header fields are quoted
+    renamed = result.assign_coords(surface=["roof#1", "S"])
+    path = output.write_result(renamed, tmp_path / "run.csv")
+    df = pd.read_csv(path, comment="#")
+    assert "temp_sol_air[roof#1] (°C)" in df.columns and len(df) == 8760
+    assert_allclose(df["temp_sol_air[roof#1] (°C)"], result["temp_sol_air"].sel(surface="roof"),
+                    rtol=1e-5, atol=1e-4)
+
+
+def test_csv_metadata_bad_record_is_a_one_line_error(tmp_path):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("# solair 0.1.0\n" + output.CSV_RECORD_PREFIX + "{not json\ntime_local\n")
+    with pytest.raises(ConfigurationError, match=r"bad.csv, line 2: the solair record is not "
+                                                 r"valid JSON"):
+        output.read_csv_metadata(bad)
+    plain = tmp_path / "plain.csv"
+    plain.write_text("time_local,temp_air (°C)\n")
+    assert output.read_csv_metadata(plain) == {}
 
 
 def test_netcdf_round_trip_with_xarray(result, tmp_path):

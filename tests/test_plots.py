@@ -583,6 +583,21 @@ def test_hourly_csv_of_a_run_is_read_back(tmp_path):
     assert_allclose(back["temp_sol_air"].values, ds["temp_sol_air"].values, rtol=1e-5)
     assert back["temp_sol_air"].attrs["units"] == "degC"
     assert png_size(plots.figure_png(plots.draw(back, "carpet", minus_air=True), dpi=40))[0] == 300
+    # the metadata lines above the header bring back the attributes and the geometry
+    for key in ("site_name", "latitude", "transposition_model"):
+        assert back.attrs[key] == ds.attrs[key], key
+    for coord in ("surface_tilt", "surface_azimuth", "absorptance", "emissivity"):
+        assert_allclose(back[coord].values, ds[coord].values, rtol=1e-12)
+    assert back["temp_sol_air"].attrs["long_name"] == ds["temp_sol_air"].attrs["long_name"]
+    assert back["time"].dims == ("time",) and (back["time"].values == ds["time"].values).all()
+    # a CSV without the metadata lines (older file, or edited) still reads, with the file name
+    lines = path.read_text(encoding="utf-8").splitlines()
+    bare = tmp_path / "bare.csv"
+    bare.write_text("\n".join(x for x in lines if not x.startswith("#")) + "\n",
+                    encoding="utf-8")
+    plain = plots.load_result(bare)
+    assert plain.attrs["site_name"] == "bare" and "surface_tilt" not in plain.coords
+    assert_allclose(plain["temp_sol_air"].values, ds["temp_sol_air"].values, rtol=1e-5)
     bad = tmp_path / "bad.csv"
     bad.write_text("time_local,x[a|b] (K)\n2001-01-01T01:00:00-05:00,1\n")
     with pytest.raises(ConfigurationError, match="plot the NetCDF output instead"):

@@ -215,3 +215,33 @@ def test_report_of_real_compare_and_batch_outputs(tmp_path):
     assert "insulated_membrane_roof" in page  # the construction behind the finishes
     assert html.escape(report.MODEL_SOURCES["sri"]) in page
     assert "Key metrics per climate" in page and "<td class=\"t\">piedmont</td>" in page
+
+
+def test_report_from_the_csv_of_a_real_run_names_the_site_and_model_sources(
+        greensboro_path, greensboro_weather, tmp_path):
+    """The README's path: `solair run WEATHER -o x.csv`, then `solair report x.csv`.
+
+    The CSV's metadata lines carry the provenance, so the page names the site (NREL TMY3
+    Greensboro NC, shipped with pvlib), its coordinates, the surfaces' geometry and the
+    published sources of the models the run used, as a report from the NetCDF does.
+    """
+    run_csv, page_path = tmp_path / "greensboro.csv", tmp_path / "r.html"
+    r = CliRunner().invoke(cli, ["run", str(greensboro_path), "-o", str(run_csv),
+                                 "--surface", "roof,0,180", "--surface", "wall,90,S"])
+    assert r.exit_code == 0, r.output
+    res = CliRunner().invoke(cli, ["report", str(run_csv), "--dpi", "50", "-o", str(page_path)])
+    assert res.exit_code == 0, res.output
+    page = page_path.read_text(encoding="utf-8")
+    assert_self_contained(page)
+    assert "GREENSBORO PIEDMONT TRIAD INT, NC" in page
+    site = greensboro_weather.site
+    assert (f'Latitude [°]</th><td class="t">{html.escape(str(site.latitude))}</td>'
+            in page), site.latitude
+    assert "723170TYA.CSV" in page  # the weather file, not only the CSV's own name
+    for name in ("perez", "iso6946", "sky_cover_clark_allen", "spa_nodes"):
+        assert html.escape(report.MODEL_SOURCES[name]) in page, name
+    # the surfaces table has the geometry back (tilt 90 of the wall, azimuth 180)
+    surfaces = page[page.index('<section id="surfaces">'):page.index('<section id="models">')]
+    assert "tilt [°]" in surfaces and "azimuth [°]" in surfaces and "absorptance" in surfaces
+    assert "90.00" in surfaces and "180.00" in surfaces
+    assert len(embedded_pngs(page)) == 3  # duration, monthly, carpet (no sky spread asked)

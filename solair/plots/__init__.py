@@ -105,19 +105,26 @@ _COLUMN = re.compile(r"^(?P<name>[A-Za-z_][A-Za-z0-9_]*)(?:\[(?P<label>[^\]]+)\]
 _UNIT_BACK = {"°C": "degC"}
 
 
-def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "") -> xr.Dataset:
+def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "",
+                              metadata: dict | None = None) -> xr.Dataset:
     """Rebuild a run dataset from the hourly CSV of ``solair run`` (``time_local`` first).
 
     Columns are ``variable (unit)`` or ``variable[surface] (unit)``; the local
     times carry their UTC offset, so ``time`` (UTC) and ``utc_offset_hours`` are
-    restored. The CSV holds no site, surface geometry or model attributes:
+    restored. ``metadata`` is the record of the CSV's ``#`` lines
+    (:func:`solair.output.read_csv_metadata`): with it the global attributes
+    (site, models, sky-source counts...), the surface coordinates
+    (``surface_tilt``, ``surface_azimuth``, ``absorptance``, ``emissivity``),
+    the view factors and the variable attributes come back as they were in
+    the run. Without it (a CSV from before the metadata block, or edited)
     ``site_name`` is set from ``name`` and the attribute ``source_table`` says
-    the rest is unknown (write NetCDF for the full record).
+    the rest is unknown.
 
     Raises
     ------
     ConfigurationError
-        Unreadable times or columns, or a table with more than one label per column.
+        Unreadable times or columns, a table with more than one label per
+        column, or a record that does not match the table's surfaces.
     """
     try:
         stamps = pd.to_datetime(table["time_local"], format="ISO8601")
@@ -126,7 +133,8 @@ def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "") -> xr.Data
     if stamps.dt.tz is None:
         raise ConfigurationError("column time_local: times carry no UTC offset")
     offset = stamps.iloc[0].utcoffset().total_seconds() / 3600.0
-    utc = pd.DatetimeIndex(stamps.dt.tz_convert("UTC").dt.tz_localize(None))
+    utc = pd.DatetimeIndex(stamps.dt.tz_convert("UTC").dt.tz_localize(None).to_numpy()
+                           .astype("datetime64[ns]"), name="time")
     flat: dict[str, tuple[str, np.ndarray]] = {}
     per_surface: dict[str, dict[str, np.ndarray]] = {}
     units: dict[str, str] = {}
@@ -137,7 +145,11 @@ def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "") -> xr.Data
                                      "plot the NetCDF output instead")
         var, label = match.group("name"), match.group("label")
         units[var] = _UNIT_BACK.get(match.group("unit") or "", match.group("unit") or "1")
-        values = table[col].to_numpy(dtype=float)
+        try:
+            values = table[col].to_numpy(dtype=float)
+        except (ValueError, TypeError):
+            raise ConfigurationError(f"column {col!r} holds values that are not numbers"
+                                     ) from None
         if label is None:
             flat[var] = ("time", values)
         else:
@@ -150,12 +162,49 @@ def dataset_from_hourly_table(table: pd.DataFrame, *, name: str = "") -> xr.Data
             raise ConfigurationError(f"variable {var!r} has no column for surface {missing[0]!r}")
         data[var] = (("time", "surface"), np.stack([cols[s] for s in surfaces], axis=1))
     ds = xr.Dataset(data, coords={"time": utc, "surface": surfaces})
+    record = metadata or {}
+    var_attrs = record.get("variables", {}) if isinstance(record.get("variables"), dict) else {}
     for var in ds.data_vars:
-        ds[var].attrs.update({"units": units[var], "long_name": var.replace("_", " ")})
-    ds.attrs.update({"site_name": name or "unnamed site", "utc_offset_hours": offset,
-                     "source_table": "hourly CSV table: no site, surface geometry or model "
-                                     "attributes (write NetCDF for the full record)"})
+        attrs = var_attrs.get(var) if isinstance(var_attrs.get(var), dict) else {}
+        ds[var].attrs.update({"long_name": var.replace("_", " "), **attrs,
+                              "units": units[var]})
+    if record:
+        _restore_record(ds, record)
+        ds.attrs["utc_offset_hours"] = offset
+        ds.attrs["source_table"] = "hourly CSV table of solair run, with its metadata lines"
+    else:
+        ds.attrs.update({"site_name": name or "unnamed site", "utc_offset_hours": offset,
+                         "source_table": "hourly CSV table without solair's metadata lines: "
+                                         "no site, surface geometry or model attributes"})
     return ds
+
+
+def _restore_record(ds: xr.Dataset, record: dict) -> None:
+    """Global attributes and 1-D coordinates of the CSV record onto the rebuilt dataset."""
+    attrs = record.get("attrs", {})
+    if isinstance(attrs, dict):
+        ds.attrs.update({str(k): v for k, v in attrs.items() if v is not None})
+    coords = record.get("coords", {})
+    if not isinstance(coords, dict):
+        return
+    names = coords.get("surface", {}).get("values") if isinstance(coords.get("surface"),
+                                                                   dict) else None
+    if names is not None and [str(n) for n in names] != [str(s) for s in ds["surface"].values]:
+        raise ConfigurationError(f"the metadata lists surfaces {names}, the table's columns "
+                                 f"have {list(ds['surface'].values)}")
+    for cname, item in coords.items():
+        if cname in ("surface", "time") or not isinstance(item, dict):
+            continue
+        dims, values = item.get("dims"), item.get("values")
+        if dims != ["surface"] or not isinstance(values, list) or len(values) != ds.sizes[
+                "surface"] or any(isinstance(v, list | dict) for v in values):
+            continue  # other dimensions (finish) are not in a run table
+        arr = np.asarray([np.nan if v is None else v for v in values])
+        da = xr.DataArray(arr, dims=("surface",), attrs=item.get("attrs") or {})
+        if cname in ("surface_tilt", "surface_azimuth", "absorptance", "emissivity"):
+            ds.coords[cname] = da
+        elif cname not in ds.variables:
+            ds[cname] = da
 
 
 def load_result(path: str | os.PathLike[str]) -> xr.Dataset | pd.DataFrame:
@@ -180,7 +229,10 @@ def load_result(path: str | os.PathLike[str]) -> xr.Dataset | pd.DataFrame:
         elif suffix == ".csv":
             result = pd.read_csv(path, comment="#")
             if "time_local" in result.columns:
-                result = dataset_from_hourly_table(result, name=path.stem)
+                from solair.output import read_csv_metadata
+
+                result = dataset_from_hourly_table(result, name=path.stem,
+                                                   metadata=read_csv_metadata(path))
         else:
             raise ConfigurationError(f"{path}: suffix {path.suffix!r} is not one of "
                                      "['.nc', '.csv']")
