@@ -8,8 +8,10 @@ Prints, in one run:
 
 * the time per climate-year of each stage in-process (read, compute, write);
 * throughput [climate-years/s] with 1 and 2 local worker processes, and the parallel
-  efficiency T1 / (2 T2);
-* the peak RSS per worker process after 50 and after 200 climates (fresh clusters).
+  efficiency T1 / (2 T2); the two clusters take turns on chunks of 20 climates so that a
+  change of the machine's load hits both alike;
+* the fraction of the workers' wall time spent inside tasks (what the orchestration costs);
+* the peak RSS per worker process of the 2-worker cluster after 50 and after 200 climates.
 
 Targets (issue 5): efficiency >= 85 %; peak RSS per worker flat within 10 % from 50 to 200
 climates; >= 15 climate-years/s on the 2-core machine.
@@ -144,24 +146,20 @@ def stage_times(climates: list[Path], response: str | None, tmp: Path) -> dict[s
     return {k: float(np.median(v)) for k, v in times.items()}
 
 
-def run_on_cluster(climates: list[Path], n_workers: int, out: Path, response: str | None):
-    """Wall time of run_portfolio on a fresh LocalCluster (start-up excluded) and peak RSS."""
-    from distributed import Client, LocalCluster
-
-    from solair.batch import run_portfolio
+def run_chunk(client, address: str, climates: list[Path], out: Path, response: str | None,
+              n_workers: int) -> tuple[float, float]:
+    """Wall time of run_portfolio on a running cluster, and the fraction of it spent in tasks."""
+    from solair.batch import read_manifest, run_portfolio
 
     res = portfolio(climates, out, response)
-    with LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
-                      dashboard_address=None, silence_logs=logging.ERROR) as cluster, \
-            Client(cluster) as client:
-        client.run(_warm_up)
-        t0 = time.perf_counter()
-        result = run_portfolio(res, scheduler=cluster.scheduler_address, force=True)
-        wall = time.perf_counter() - t0
-        rss = client.run(_peak_rss_mib)
+    t0 = time.perf_counter()
+    result = run_portfolio(res, scheduler=address, force=True)
+    wall = time.perf_counter() - t0
     if result.failed:
         raise SystemExit(f"benchmark run failed: {result.failed[0]}")
-    return wall, sorted(rss.values())
+    busy = sum(r["seconds"] for r in read_manifest(out / "manifest.jsonl").values())
+    shutil.rmtree(out / "climates", ignore_errors=True)  # keep the disk use bounded
+    return wall, busy / (n_workers * wall)
 
 
 def _warm_up() -> None:
@@ -182,6 +180,7 @@ def main(argv: list[str] | None = None) -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--climates", type=int, default=200)
     ap.add_argument("--small", type=int, default=50, help="climates of the first memory point")
+    ap.add_argument("--chunk", type=int, default=20, help="climates per alternating round")
     ap.add_argument("--response", default=None, help="response model passed to compare()")
     ap.add_argument("--construction", default=None, help="library construction (default none)")
     ap.add_argument("--no-dew", action="store_true", help="dew and frost off")
@@ -210,22 +209,54 @@ def main(argv: list[str] | None = None) -> None:
 
         profile_one(climates[0], args.response, tmp / "profile")
 
+        from distributed import Client, LocalCluster
+
         n = len(climates)
-        t1, rss1 = run_on_cluster(climates, 1, tmp / "w1", args.response)
-        t2, rss2 = run_on_cluster(climates, 2, tmp / "w2", args.response)
-        small, rss_small = run_on_cluster(climates[:args.small], 2, tmp / "w2s", args.response)
+        rounds = max(1, n // args.chunk)
+        chunks = [climates[i * n // rounds:(i + 1) * n // rounds] for i in range(rounds)]
+        kw = {"threads_per_worker": 1, "processes": True, "dashboard_address": None,
+              "silence_logs": logging.ERROR}
+        # both clusters live through the whole run and take turns on the same chunks, so a
+        # change of the machine's load (other jobs) hits both alike
+        with LocalCluster(n_workers=1, **kw) as c1, LocalCluster(n_workers=2, **kw) as c2, \
+                Client(c1) as k1, Client(c2) as k2:
+            k1.run(_warm_up)
+            k2.run(_warm_up)
+            t1 = t2 = 0.0
+            util1, util2, effs, rss_small, done = [], [], [], None, 0
+            for i, chunk in enumerate(chunks):
+                w1, u1 = run_chunk(k1, c1.scheduler_address, chunk, tmp / f"w1_{i}",
+                                   args.response, 1)
+                w2, u2 = run_chunk(k2, c2.scheduler_address, chunk, tmp / f"w2_{i}",
+                                   args.response, 2)
+                t1, t2 = t1 + w1, t2 + w2
+                util1.append(u1)
+                util2.append(u2)
+                effs.append(w1 / (2 * w2))
+                done += len(chunk)
+                if rss_small is None and done >= args.small:
+                    rss_small = sorted(k2.run(_peak_rss_mib).values())
+                print(f"  round {i + 1}/{rounds}: {len(chunk)} climates, 1 worker {w1:6.1f} s, "
+                      f"2 workers {w2:6.1f} s, efficiency {effs[-1] * 100:5.1f} %, "
+                      f"load {os.getloadavg()[0]:.1f}", flush=True)
+            rss2 = sorted(k2.run(_peak_rss_mib).values())
+            rss1 = sorted(k1.run(_peak_rss_mib).values())
         eff = t1 / (2 * t2)
         print(f"\n{n} climate-years x 17 surfaces x {len(FINISHES)} finishes "
               f"(cluster start-up excluded):")
         print(f"  1 worker : {t1:7.1f} s  {n / t1:6.2f} climate-years/s")
         print(f"  2 workers: {t2:7.1f} s  {n / t2:6.2f} climate-years/s   (target >= 15)")
-        print(f"  parallel efficiency T1/(2 T2): {eff * 100:5.1f} %   (target >= 85 %)")
+        print(f"  parallel efficiency T1/(2 T2): {eff * 100:5.1f} % overall, median of the "
+              f"rounds {np.median(effs) * 100:5.1f} %   (target >= 85 %)")
+        print(f"  worker utilisation (time in tasks / workers x wall): 1 worker "
+              f"{np.mean(util1) * 100:.1f} %, 2 workers {np.mean(util2) * 100:.1f} %")
         print("\npeak RSS per worker process [MiB] (2 workers):")
-        print(f"  after {args.small:3d} climates: {', '.join(f'{r:.0f}' for r in rss_small)}")
+        print(f"  after {args.small:3d} climates: "
+              f"{', '.join(f'{r:.0f}' for r in (rss_small or rss2))}")
         print(f"  after {n:3d} climates: {', '.join(f'{r:.0f}' for r in rss2)}")
-        growth = max(rss2) / max(rss_small) - 1.0
+        growth = max(rss2) / max(rss_small or rss2) - 1.0
         print(f"  growth {args.small} -> {n}: {growth * 100:+.1f} %   (target within 10 %)")
-        print(f"  1-worker run, after {n}: {', '.join(f'{r:.0f}' for r in rss1)}")
+        print(f"  1-worker cluster, after {n}: {', '.join(f'{r:.0f}' for r in rss1)}")
         print(f"load average at the end: {os.getloadavg()[0]:.2f}")
     finally:
         if args.keep_files:
