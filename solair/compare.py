@@ -48,6 +48,12 @@ _VARS = {
     "h_e": ("W m-2 K-1", "external surface heat transfer coefficient h_conv + h_rad"),
 }
 
+#: Time-only weather variables of the hourly result: units, long_name, CF standard_name.
+_AIR_VARS = {
+    "temp_air": ("degC", "dry-bulb air temperature", "air_temperature"),
+    "temp_dew": ("degC", "dew-point temperature of the air", "dew_point_temperature"),
+}
+
 #: Metric columns of the table (after surface, finish, label, absorptance, emissivity, sri).
 METRIC_COLUMNS = {
     "temp_surface_max": "peak surface temperature [°C]",
@@ -235,6 +241,11 @@ def compare(
     for k in ds.data_vars:
         units, long_name = _VARS[k]
         ds[k].attrs.update(units=units, long_name=long_name)
+    # the air and its dew point, once per hour, for carpets of the excess over the air
+    # (`solair plot --minus-air`) and dew-point checks from the hourly file alone
+    for k, (units, long_name, standard_name) in _AIR_VARS.items():
+        ds[k] = ("time", np.asarray(forcing[k].values, dtype=float),
+                 {"units": units, "long_name": long_name, "standard_name": standard_name})
     ds["finish"].attrs["long_name"] = "exterior finish"
     notes = [f"{f.name}: {f.note}" for f in fins if f.note]
     if any(f.indicative for f in fins):

@@ -105,6 +105,28 @@ def test_result_contract(result):
     assert (ds["condensate"].values >= 0).all()
 
 
+def test_hourly_result_holds_air_and_dew_point(result, greensboro_weather):
+    """temp_air and temp_dew (time only, CF standard names) are the weather file's hours.
+
+    With them the hourly file alone gives the dew-point check: the table's dew + frost
+    hours equal the hours with T_s below the stored dew point.
+    """
+    ds, df = result
+    for name, standard in (("temp_air", "air_temperature"),
+                           ("temp_dew", "dew_point_temperature")):
+        assert ds[name].dims == ("time",)
+        assert ds[name].attrs["units"] == "degC" and ds[name].attrs["long_name"]
+        assert ds[name].attrs["standard_name"] == standard
+        # Greensboro TMY3 dry-bulb and dew-point columns, as read (°C)
+        assert_allclose(ds[name].values, greensboro_weather.data[name].to_numpy(), atol=1e-12)
+    below = (ds["temp_surface"] < ds["temp_dew"]).sum("time")
+    for surface in ("roof", "north"):
+        for finish in ("black_membrane", "galvanised_steel"):
+            row = _row(df, surface, finish)
+            assert int(below.sel(surface=surface, finish=finish)) == row.dew_hours + \
+                row.frost_hours
+
+
 def test_massless_default_equals_surface_mode_sol_air(greensboro_weather):
     ds, _ = compare(greensboro_weather, [ROOF], ["black_membrane"], dew=False)
     assert ds.attrs["response_model"] == "massless"
@@ -146,7 +168,15 @@ def test_cli_compare_writes_table_and_hourly(greensboro_path, tmp_path):
     assert {"sri", "temp_surface_max", "dew_hours", "heat_gain"} <= set(table.columns)
     ds = xr.open_dataset(nc, engine="h5netcdf")
     assert ds["temp_surface"].dims == ("time", "surface", "finish")
+    assert ds["temp_air"].dims == ("time",) and ds["temp_dew"].dims == ("time",)
+    assert ds["temp_dew"].attrs["standard_name"] == "dew_point_temperature"
     ds.close()
+    # the carpet of the excess over the air is drawn from the hourly file alone
+    png = tmp_path / "carpet.png"
+    res = CliRunner().invoke(cli, ["plot", str(nc), "--kind", "carpet", "--minus-air",
+                                   "--variable", "temp_surface", "-o", str(png)])
+    assert res.exit_code == 0, res.output
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
 @pytest.mark.parametrize(("args", "message"), [
