@@ -12,6 +12,7 @@ time, on the reference year 2001 (first label 2001-01-01 01:00, last
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from os import PathLike
 from pathlib import Path
@@ -26,6 +27,8 @@ from solair.weather.validate import MAX_GAP_HOURS, REFERENCE_YEAR, WeatherWarnin
 __all__ = ["Site", "Weather", "read_weather", "detect_format", "WeatherWarning", "FORMATS",
            "REQUIRED", "OPTIONAL", "UNITS", "MAX_GAP_HOURS", "REFERENCE_YEAR"]
 
+#: control characters other than tab, line feed and carriage return
+_CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f]")
 #: files larger than this are refused before reading [bytes] (an hourly year is ~1.6 MB)
 _MAX_BYTES = 50_000_000
 
@@ -129,10 +132,12 @@ def _read_text(path: Path, name: str) -> str:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         text = raw.decode("latin-1")
-    bad = sum(1 for ch in text[:20000] if ord(ch) < 32 and ch not in "\r\n\t")
-    if bad:
-        line = next(i for i, ln in enumerate(text.splitlines(), 1)
-                    if any(ord(c) < 32 and c not in "\r\t" for c in ln))
+    m = _CONTROL.search(text, 0, 20000)
+    if m is not None:
+        bad = m.start()
+        # counted in newlines: form feed and vertical tab are control characters that
+        # str.splitlines() would also take for line ends
+        line = text.count("\n", 0, bad) + 1
         raise WeatherFileError(f"{name}, line {line}: binary content (control characters); "
                                "a weather file is text")
     if not text.strip():
