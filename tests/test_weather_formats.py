@@ -16,6 +16,7 @@ import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 
+from solair.errors import WeatherFileError
 from solair.weather import OPTIONAL, REQUIRED, WeatherWarning, detect_format, read_weather
 
 CANONICAL = set(REQUIRED) | set(OPTIONAL)
@@ -189,3 +190,44 @@ def test_tmy2_city_with_spaces(tmp_path, miami_path):
     w = read_weather(p)
     assert w.site.name == "MIAMI INTL AIRPORT, FL"
     assert_allclose((w.site.latitude, w.site.longitude), (25.8, -(80 + 16 / 60)))
+
+
+@pytest.mark.parametrize("record5", ["HOLIDAYS/DAYLIGHT SAVINGS,No,0,0,0",
+                                     "HOLIDAYS/DAYLIGHT SAVING,No,0,0,0"])
+def test_epw_record5_both_spellings(greensboro_epw_path, tmp_path, record5):
+    """EPW header record 5: "HOLIDAYS/DAYLIGHT SAVINGS" as the EnergyPlus EPW data
+    dictionary (Auxiliary Programs, Weather Converter Program) names it, and
+    "HOLIDAYS/DAYLIGHT SAVING" as pvlib's bundled EPW and many converters write it;
+    both give the same year."""
+    lines = greensboro_epw_path.read_text(encoding="utf-8").splitlines()
+    assert lines[4].upper().startswith("HOLIDAYS/DAYLIGHT SAVING")
+    lines[4] = record5
+    path = tmp_path / "record5.epw"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", WeatherWarning)
+        w = read_weather(path)
+        ref = read_weather(greensboro_epw_path)
+    pd.testing.assert_frame_equal(w.data, ref.data, check_exact=True)
+
+
+def test_epw_record5_other_text_still_refused(greensboro_epw_path, tmp_path):
+    lines = greensboro_epw_path.read_text(encoding="utf-8").splitlines()
+    lines[4] = "HOLIDAYS,No,0,0,0"
+    path = tmp_path / "record5_bad.epw"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    with pytest.raises(WeatherFileError, match=r"record5_bad\.epw, line 5: EPW header record 5 "
+                       r"is 'HOLIDAYS', expected 'HOLIDAYS/DAYLIGHT SAVINGS'"):
+        read_weather(path)
+
+
+@pytest.mark.parametrize("char", ["\x0c", "\x0b", "\x1c"])
+def test_line_separating_control_character_named_by_line(greensboro_path, tmp_path, char):
+    """Form feed, vertical tab and file separator are control characters that
+    str.splitlines() also splits at: still refused as binary content on their line."""
+    lines = greensboro_path.read_text(encoding="latin-1").splitlines()
+    lines[2] = char + lines[2][1:]
+    path = tmp_path / "ff.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="latin-1")
+    with pytest.raises(WeatherFileError, match=r"ff\.csv, line 3: binary content"):
+        read_weather(path)

@@ -104,7 +104,7 @@ def detect_format(text: str, name: str = "weather file") -> str:
     E/W longitude, elevation) and data lines are 141 characters after a space.
     The file suffix is not used.
     """
-    lines = text.splitlines()
+    lines = _first_lines(text, 2)
     first = lines[0] if lines else ""
     if first.strip().upper().startswith("LOCATION,"):
         return "epw"
@@ -121,6 +121,21 @@ def detect_format(text: str, name: str = "weather file") -> str:
 
 
 # --------------------------------------------------------------------------- helpers
+
+def _first_lines(text: str, n: int) -> list[str]:
+    """``text.splitlines()[:n]`` without splitting the whole text.
+
+    The prefix up to the (n + 1)-th newline holds the first n lines whole, whatever
+    other separators str.splitlines() also splits at.
+    """
+    pos = 0
+    for _ in range(n + 1):
+        j = text.find("\n", pos)
+        if j < 0:
+            return text.splitlines()[:n]
+        pos = j + 1
+    return text[:pos].splitlines()[:n]
+
 
 def _data_lines(lines: list[str], start: int, name: str) -> list[str]:
     """Data lines from index ``start`` (0-based), trailing blank lines removed."""
@@ -181,8 +196,11 @@ def _header_float(value: str, what: str, name: str, line: int = 1) -> float:
 # --------------------------------------------------------------------------- EPW
 
 _EPW_RECORDS = ("LOCATION", "DESIGN CONDITIONS", "TYPICAL/EXTREME PERIODS",
-                "GROUND TEMPERATURES", "HOLIDAYS/DAYLIGHT SAVING", "COMMENTS 1",
+                "GROUND TEMPERATURES", "HOLIDAYS/DAYLIGHT SAVINGS", "COMMENTS 1",
                 "COMMENTS 2", "DATA PERIODS")
+#: other spellings accepted for a record: the EPW data dictionary [1]_ names record 5
+#: "HOLIDAYS/DAYLIGHT SAVINGS"; pvlib's bundled EPW and many converters write "SAVING"
+_EPW_RECORD_ALIASES = {"HOLIDAYS/DAYLIGHT SAVINGS": ("HOLIDAYS/DAYLIGHT SAVING",)}
 _EPW_NFIELDS = 35
 # canonical name -> (pvlib column, EPW field number (1-based), missing when value >= code)
 _EPW_FIELDS = {
@@ -202,13 +220,11 @@ _EPW_FIELDS = {
 }
 
 
-def _parse_epw(text: str, name: str) -> RawTable:
-    from pvlib.iotools import read_epw
-
-    lines = text.splitlines()
+def _epw_header(lines: list[str], name: str) -> dict:
+    """Check the 8 EPW header records and read the LOCATION record into ``meta``."""
     for i, rec in enumerate(_EPW_RECORDS):
         got = lines[i].split(",")[0].strip().upper() if i < len(lines) else "<end of file>"
-        if got != rec:
+        if got != rec and got not in _EPW_RECORD_ALIASES.get(rec, ()):
             raise _fail(name, f"EPW header record {i + 1} is {got[:40]!r}, expected {rec!r} "
                         "(an EPW file has 8 header lines before the hourly data)", i + 1)
     loc = lines[0].split(",")
@@ -222,6 +238,22 @@ def _parse_epw(text: str, name: str) -> RawTable:
         "utc_offset": _header_float(loc[8], "time zone", name),
         "altitude": _header_float(loc[9], "elevation", name),
     }
+    return meta
+
+
+def _parse_epw(text: str, name: str, fast: bool = True) -> RawTable:
+    from pvlib.iotools import read_epw
+
+    if fast:  # a well-formed file: one pandas.read_csv call (see solair.weather._fast)
+        from solair.weather import _fast
+
+        split = _fast.split_head(text, 8)
+        if split is not None:
+            raw = _fast.epw_body(split[1], _epw_header(split[0], name))
+            if raw is not None:
+                return raw
+    lines = text.splitlines()
+    meta = _epw_header(lines, name)
     body = _data_lines(lines, 8, name)
     rows: list[list[str]] = []
     month = np.empty(len(body), dtype=int)
@@ -284,10 +316,8 @@ _TMY3_TIME = re.compile(r"^(\d{1,2}):(\d{2})$")
 _TMY3_DATE = re.compile(r"^(\d{1,2})/(\d{1,2})/(\d{4})$")
 
 
-def _parse_tmy3(text: str, name: str) -> RawTable:
-    from pvlib.iotools import read_tmy3
-
-    lines = text.splitlines()
+def _tmy3_header(lines: list[str], name: str) -> tuple[dict, list[str]]:
+    """Check the two TMY3 header lines; the site ``meta`` and the column names."""
     site = next(csv.reader([lines[0]]))
     if len(site) != 7:
         raise _fail(name, f"TMY3 site line has {len(site)} fields, expected 7 (USAF, name, "
@@ -300,12 +330,29 @@ def _parse_tmy3(text: str, name: str) -> RawTable:
         "altitude": _header_float(site[6], "elevation", name),
     }
     columns = lines[1].split(",")
-    ncol = len(columns)
     needed = ["GHI (W/m^2)", "DNI (W/m^2)", "DHI (W/m^2)", "Dry-bulb (C)", "Dew-point (C)",
               "RHum (%)", "Pressure (mbar)", "Wdir (degrees)", "Wspd (m/s)"]
     for col in needed:
         if col not in columns:
             raise _fail(name, f"TMY3 column header lacks {col!r}", 2)
+    return meta, columns
+
+
+def _parse_tmy3(text: str, name: str, fast: bool = True) -> RawTable:
+    from pvlib.iotools import read_tmy3
+
+    if fast:  # a well-formed file: one pandas.read_csv call (see solair.weather._fast)
+        from solair.weather import _fast
+
+        split = _fast.split_head(text, 2)
+        if split is not None:
+            meta, columns = _tmy3_header(split[0], name)
+            raw = _fast.tmy3_body(split[1], meta, split[0][0], columns)
+            if raw is not None:
+                return raw
+    lines = text.splitlines()
+    meta, columns = _tmy3_header(lines, name)
+    ncol = len(columns)
     body = _data_lines(lines, 2, name)
     rows: list[list[str]] = []
     month = np.empty(len(body), dtype=int)
@@ -453,7 +500,15 @@ def _check_calendar(month, day, hour, line_no, name: str) -> None:
 _PARSERS = {"epw": _parse_epw, "tmy3": _parse_tmy3, "tmy2": _parse_tmy2}
 
 
-def parse(text: str, name: str) -> RawTable:
-    """Detect the format of ``text`` and parse it into a :class:`RawTable`."""
+def parse(text: str, name: str, *, fast: bool = True) -> RawTable:
+    """Detect the format of ``text`` and parse it into a :class:`RawTable`.
+
+    With ``fast`` (the default) a well-formed EPW or TMY3 file is parsed by
+    :mod:`solair.weather._fast`; any file it does not accept as well formed goes
+    through the line-by-line reader, which names the line and field at fault.
+    ``fast=False`` always takes the line-by-line reader (same table, slower).
+    """
     fmt = detect_format(text, name)
-    return _PARSERS[fmt](text, name)
+    if fmt == "tmy2":
+        return _parse_tmy2(text, name)
+    return _PARSERS[fmt](text, name, fast)
