@@ -22,10 +22,11 @@ surface (tilt, azimuth, absorptance, emissivity), the models and the hours per
 sky source, and last a ``# solair record (JSON): {...}`` line holding the
 global attributes, the per-surface coordinates and the variable attributes
 exactly (read back by :func:`read_csv_metadata`). Read the table with
-``pandas.read_csv(path, comment="#")`` (``numpy.genfromtxt`` skips ``#`` lines
-by default; in R, ``read.csv(path, comment.char = "#")``). Header fields that
-hold a ``#`` (a surface named ``wall#2``) are quoted, which pandas' default C
-parser respects.
+``pandas.read_csv(path, comment="#")``; a spreadsheet shows the lines as text
+above the table, and the ``# reading:`` line gives the line number of the
+header row for import dialogs that skip leading rows. Header fields that hold a
+``#`` (a surface named ``wall#2``) are quoted, which pandas' default C parser
+respects.
 """
 
 from __future__ import annotations
@@ -343,7 +344,9 @@ def csv_metadata_lines(ds: xr.Dataset, offset_text: str | None = None) -> list[s
                if str(k).startswith("sky_source_hours_") and _positive(a[k])]
     if sources:
         lines.append("sky sources: " + ", ".join(f"{name} {int(n)} h" for name, n in sources))
-    lines.append('reading: pandas.read_csv(path, comment="#") skips these lines')
+    # this line, the record line, then the header row
+    lines.append(f'reading: the header row is line {len(lines) + 3}; pandas.read_csv(path, '
+                 'comment="#") skips these lines')
     record = {
         "attrs": _jsonable(dict(a)),
         "coords": {name: {"dims": list(var.dims), "values": _jsonable(var.values),

@@ -57,6 +57,8 @@ def test_csv_metadata_lines_name_site_surfaces_models_and_caution(result, tmp_pa
     assert "# models: sky auto; transposition perez; convection iso6946" in text
     assert "local standard time (UTC-05:00)" in text
     assert "# sky sources: " in text and "sky_cover_clark_allen" in text
+    # the line number of the header row, for spreadsheet import dialogs
+    assert f"# reading: the header row is line {len(head) + 1};" in text
     # the JSON record holds the attributes exactly
     record = output.read_csv_metadata(path)
     assert record["attrs"]["site_name"] == result.attrs["site_name"]
