@@ -128,21 +128,27 @@ def _block(body: str, nfields: int) -> _Block | None:
         data = data.replace(b"\r\n", b"\n")
         if b"\r" in data:
             return None
-    data = data.rstrip(b"\n")
-    if not data or data.translate(None, _ALLOWED):
+    if data.translate(None, _ALLOWED):
         return None
-    a = np.frombuffer(data, dtype=np.uint8)
+    end = len(data)  # trailing newlines (blank last lines) are not data; no copy
+    while end and data[end - 1] == 10:
+        end -= 1
+    if not end:
+        return None
+    a = np.frombuffer(data, dtype=np.uint8, count=end)
     nl = np.flatnonzero(a == 10)
     commas = np.flatnonzero(a == 44)
     nrows = len(nl) + 1
     if len(commas) != nrows * (nfields - 1):
         return None
-    per_line = np.diff(np.concatenate(([0], np.searchsorted(commas, nl), [len(commas)])))
-    if (per_line != nfields - 1).any():
-        return None
+    commas = commas.reshape(nrows, nfields - 1)
     starts = np.concatenate(([0], nl + 1))
-    ends = np.concatenate((nl, [len(a)]))
-    return _Block(data, a, starts, ends, commas.reshape(nrows, nfields - 1))
+    ends = np.concatenate((nl, [end]))
+    # the commas are sorted and the lines contiguous: when each row of nfields - 1
+    # commas starts and ends inside its own line, every line has exactly that many
+    if (commas[:, 0] < starts).any() or (commas[:, -1] >= ends).any():
+        return None
+    return _Block(data, a, starts, ends, commas)
 
 
 def _calendar_ok(month: np.ndarray, day: np.ndarray, hour: np.ndarray) -> bool:

@@ -111,9 +111,18 @@ def check_header(meta: dict, name: str, utc_offset: float | None) -> None:
 
 def canonical_index(month, day, hour, utc_offset: float) -> pd.DatetimeIndex:
     """Hour-ending labels on the reference year, tz-aware at ``utc_offset`` hours."""
-    dates = pd.to_datetime({"year": np.full(len(month), REFERENCE_YEAR), "month": month,
-                            "day": day})
-    idx = pd.DatetimeIndex(dates + pd.to_timedelta(np.asarray(hour), unit="h"))
+    month, day, hour = (np.asarray(x, dtype=np.int64) for x in (month, day, hour))
+    if len(month) and ((month < 1) | (month > 12)).any():
+        raise ValueError("month outside 1-12")
+    first = np.cumsum([0, 31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31])  # day before month
+    length = np.diff(first)
+    if len(month) and ((day < 1) | (day > length[month - 1])).any():
+        raise ValueError(f"day does not exist in {REFERENCE_YEAR}")
+    # wall-clock hours since the reference year's start, then microseconds, the unit
+    # pandas gives dates (no string or per-row date parsing)
+    hours = (first[month - 1] + day - 1) * 24 + hour
+    start = np.datetime64(f"{REFERENCE_YEAR}-01-01", "us").astype(np.int64)
+    idx = pd.DatetimeIndex((start + hours * 3_600_000_000).astype("datetime64[us]"))
     return idx.tz_localize(_fixed_tz(utc_offset))
 
 
@@ -195,23 +204,24 @@ def extraterrestrial_horizontal(index: pd.DatetimeIndex, latitude: float, longit
     from pvlib import irradiance, solarposition
 
     doy = index.day_of_year.to_numpy()
-    e0n = np.asarray(irradiance.get_extra_radiation(doy), dtype=float)
-    decl = solarposition.declination_spencer71(doy)
-    eot = solarposition.equation_of_time_spencer71(doy)  # [min]
+    # the day terms once per calendar day (a year has 365 of them, not 8760)
+    days = np.arange(1, 367)
+    e0n = np.asarray(irradiance.get_extra_radiation(days), dtype=float)[doy - 1]
+    decl = solarposition.declination_spencer71(days)[doy - 1]
+    eot = solarposition.equation_of_time_spencer71(days)[doy - 1]  # [min]
     # hours since 00:00 UTC of the label, then apparent solar time (vectorised hour angle)
     utc = index.tz_convert("UTC")
     utc_hours = utc.hour.to_numpy() + utc.minute.to_numpy() / 60.0
     lat = np.radians(latitude)
-    cos_sum = np.zeros(len(index))
-    cos_max = np.full(len(index), -1.0)
-    fractions = np.linspace(0.0, 1.0, substeps + 1)  # instants from the hour start to its end
-    for k, f in enumerate(fractions):
-        solar = utc_hours - (1.0 - f) + longitude / 15.0 + eot / 60.0
-        ha = np.radians(15.0 * (solar - 12.0))
-        cz = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(ha)
-        cos_max = np.maximum(cos_max, cz)
-        w = 0.5 if k in (0, substeps) else 1.0  # trapezoidal rule over the hour
-        cos_sum += w * np.clip(cz, 0.0, None)
+    # instants from the hour start to its end, all at once: (substeps + 1, n_hours)
+    fractions = np.linspace(0.0, 1.0, substeps + 1)[:, None]
+    solar = utc_hours - (1.0 - fractions) + longitude / 15.0 + eot / 60.0
+    ha = np.radians(15.0 * (solar - 12.0))
+    cz = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(ha)
+    cos_max = cz.max(axis=0)
+    w = np.ones((substeps + 1, 1))
+    w[[0, -1]] = 0.5  # trapezoidal rule over the hour
+    cos_sum = (w * np.clip(cz, 0.0, None)).sum(axis=0)
     return e0n * cos_sum / substeps, e0n, cos_max > -np.sin(np.radians(1.5))
 
 
@@ -228,7 +238,8 @@ def irradiance_timing_offset(ghi: np.ndarray, index: pd.DatetimeIndex, longitude
     from pvlib import solarposition
 
     mid = index - pd.Timedelta(minutes=30)
-    eot = solarposition.equation_of_time_spencer71(mid.day_of_year.to_numpy()) / 60.0
+    eot = solarposition.equation_of_time_spencer71(np.arange(1, 367))[
+        mid.day_of_year.to_numpy() - 1] / 60.0
     clock = mid.hour.to_numpy() + mid.minute.to_numpy() / 60.0
     solar = clock + (longitude - 15.0 * utc_offset) / 15.0 + eot
     w = np.nan_to_num(np.clip(ghi, 0.0, None))
