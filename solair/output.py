@@ -212,7 +212,8 @@ def write_result(ds: xr.Dataset, path: str | os.PathLike) -> Path:
     * ``.csv``: the metadata lines of :func:`csv_metadata_lines` (each
       starting with ``# ``), then the wide table of :func:`to_table` with
       ``time_local`` (local standard time, ISO 8601 with offset) as first
-      column; UTF-8; values with 6 significant digits. Read it with
+      column; UTF-8 with a byte-order mark (so spreadsheets show °C right;
+      pandas skips it); values with 6 significant digits. Read it with
       ``pandas.read_csv(path, comment="#")``; :func:`read_csv_metadata`
       returns the provenance record.
     * ``.nc``: netCDF4 through ``engine="h5netcdf"``; ``time`` stays naive
@@ -235,7 +236,8 @@ def write_result(ds: xr.Dataset, path: str | os.PathLike) -> Path:
         table.insert(0, "time_local", times.strftime("%Y-%m-%dT%H:%M:%S") + _iso_offset(times))
         head = [*csv_metadata_lines(ds, _iso_offset(times)), _header_line(table.columns)]
         with atomic_path(path) as tmp:
-            with open(tmp, "w", encoding="utf-8", newline="") as fh:
+            # a byte-order mark, so that spreadsheets read the file as UTF-8 (°C, —)
+            with open(tmp, "w", encoding="utf-8-sig", newline="") as fh:
                 fh.write("\n".join(head) + "\n")
             table.to_csv(tmp, mode="a", header=False, index=False, float_format=_FLOAT_FORMAT,
                          encoding="utf-8", lineterminator="\n")
@@ -374,7 +376,7 @@ def read_csv_metadata(path: str | os.PathLike) -> dict:
         The record line is present but is not valid JSON.
     """
     path = Path(path)
-    with open(path, encoding="utf-8", errors="replace") as fh:
+    with open(path, encoding="utf-8-sig", errors="replace") as fh:
         for number, line in enumerate(fh, start=1):
             if not line.startswith("#"):
                 return {}

@@ -43,7 +43,9 @@ def test_csv_round_trip_with_pandas(result, tmp_path):
 
 def test_csv_metadata_lines_name_site_surfaces_models_and_caution(result, tmp_path):
     path = output.write_result(result, tmp_path / "run.csv")
-    lines = path.read_text(encoding="utf-8").splitlines()
+    raw = path.read_bytes()
+    assert raw.startswith(b"\xef\xbb\xbf# solair ")  # UTF-8 byte-order mark, for spreadsheets
+    lines = raw.decode("utf-8-sig").splitlines()
     head = [line for line in lines if line.startswith("#")]
     # the block sits above the header row and nowhere else
     assert lines[: len(head)] == head and lines[len(head)].startswith("time_local,")

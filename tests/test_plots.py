@@ -591,7 +591,7 @@ def test_hourly_csv_of_a_run_is_read_back(tmp_path):
     assert back["temp_sol_air"].attrs["long_name"] == ds["temp_sol_air"].attrs["long_name"]
     assert back["time"].dims == ("time",) and (back["time"].values == ds["time"].values).all()
     # a CSV without the metadata lines (older file, or edited) still reads, with the file name
-    lines = path.read_text(encoding="utf-8").splitlines()
+    lines = path.read_text(encoding="utf-8-sig").splitlines()
     bare = tmp_path / "bare.csv"
     bare.write_text("\n".join(x for x in lines if not x.startswith("#")) + "\n",
                     encoding="utf-8")
