@@ -309,10 +309,9 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
         result = run_cli([str(pf), "--force", "-o", str(tmp_path / "b")])
         assert "3 done, 0 skipped, 0 failed" in result.output, result.output
         monkeypatch.delenv("DASK_SCHEDULER_ADDRESS")
-        from distributed import Client
-
-        with Client(cluster) as client:
-            client.write_scheduler_file(str(tmp_path / "scheduler.json"))
+        # the file `dask scheduler --scheduler-file` writes holds the address under "address"
+        (tmp_path / "scheduler.json").write_text(
+            json.dumps({"type": "Scheduler", "address": cluster.scheduler_address}))
         result = run_cli([str(pf), "--scheduler-file", str(tmp_path / "scheduler.json"),
                           "-o", str(tmp_path / "c")])
         assert "3 done, 0 skipped, 0 failed" in result.output, result.output
