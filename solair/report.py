@@ -19,7 +19,6 @@ import datetime as _dt
 import html
 import os
 import re
-import tempfile
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -28,6 +27,7 @@ import pandas as pd
 import xarray as xr
 
 from solair.errors import ConfigurationError
+from solair.output import atomic_path
 from solair.plots import detect_result_type, draw, figure_png, load_result, shaping
 from solair.plots.shaping import design_values_table, monthly_means_table
 
@@ -611,13 +611,6 @@ def write_report(paths: Sequence[str | os.PathLike[str]], output: str | os.PathL
         raise ConfigurationError(f"{output}: folder {folder} does not exist")
     results = [(Path(p).name, load_result(p)) for p in paths]
     text = build_report(results, title=title, dpi=dpi)
-    handle, tmp = tempfile.mkstemp(prefix=f".{output.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8") as out:
-            out.write(text)
-        os.replace(tmp, output)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    with atomic_path(output) as tmp:
+        tmp.write_text(text, encoding="utf-8")
     return output

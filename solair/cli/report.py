@@ -19,8 +19,9 @@ def report(results: tuple[Path, ...], output: Path, title: str | None, dpi: int)
     """Write a self-contained HTML report from RESULTS.
 
     RESULTS are NetCDF files of `solair run`, `solair compare --hourly` or
-    `solair batch`, the hourly CSV of `solair run` (no site details), and CSV
-    tables of `solair compare -o` or the batch summary.
+    `solair batch`, the hourly CSV of `solair run` (its `# ` metadata lines
+    give the site and models), and CSV tables of `solair compare -o` or the
+    batch summary.
     Figures are embedded; the page links to nothing outside itself. Engineering
     estimate; verify against local codes and licensed professional practice.
     """

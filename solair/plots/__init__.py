@@ -19,7 +19,6 @@ from __future__ import annotations
 import io
 import os
 import re
-import tempfile
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
@@ -31,6 +30,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
 from solair.errors import ConfigurationError
+from solair.output import atomic_path
 from solair.plots import figures, shaping
 
 __all__ = [
@@ -350,13 +350,6 @@ def save_figure(fig: Figure, path: str | os.PathLike[str], *, dpi: float = 200) 
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise ConfigurationError(f"{path}: folder {folder} does not exist")
-    handle, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(handle, "wb") as out:
-            fig.savefig(out, format=fmt, dpi=dpi)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    with atomic_path(path) as tmp, open(tmp, "wb") as out:
+        fig.savefig(out, format=fmt, dpi=dpi)
     return path

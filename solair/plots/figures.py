@@ -231,8 +231,8 @@ def carpet_figure(ds: xr.Dataset, *, surfaces: Sequence[str] | None = None,
     base = _SHORT_NAME.get(variable, variable)
     if minus_air:
         span = max(abs(lo), abs(hi), 0.1)
-        norm: colors.Normalize = colors.TwoSlopeNorm(vcenter=0.0, vmin=min(lo, -0.01 * span),
-                                                    vmax=max(hi, 0.01 * span))
+        # symmetric about zero, so equal colour depth means equal kelvin above or below air
+        norm: colors.Normalize = colors.TwoSlopeNorm(vcenter=0.0, vmin=-span, vmax=span)
         cmap = "RdBu_r"
         cbar_label = f"{base} − air temperature [K]"
     else:
