@@ -1,7 +1,9 @@
 """Surface response of a finish on a construction: massless, steady, transient; dew and frost.
 
 All three models share one time-stepping kernel over the columns
-(surface × finish, flattened), with a Python loop over time only:
+(surface × finish, flattened), with a Python loop over time only; the
+massless and steady models with the linear exterior and no dew have no time
+coupling and skip the loop (all hours in one array evaluation, same results):
 
 * ``"massless"``: the surface stores nothing and conducts nothing; with the
   hourly (T_eq, h_e) of the engine's ``linearisation="surface"`` (or
@@ -59,6 +61,10 @@ WET_FILM = 1e-3
 #: Stefan-Boltzmann constant, CODATA 2018 [W m-2 K-4].
 SIGMA = 5.670374419e-8
 _K = 273.15
+#: Evaluate the massless and steady responses without dew and with the linear
+#: exterior for all hours at once (no hourly loop; same results). False forces
+#: the stepped loop (used by the tests that check the two agree).
+_FAST_PATH = True
 _BALANCE_KEYS = ("temp_air", "poa_global", "absorptance", "emissivity", "h_conv",
                  "temp_sky", "temp_ground", "view_sky", "view_air", "view_ground")
 _DEW_KEYS = ("temp_air", "temp_dew", "pressure", "h_conv")
@@ -186,6 +192,54 @@ def _closure(e0, r0, ext, dew, hour, t_guess, water, dt, iterations):
         zero = np.zeros_like(t)
         return t, q, zero, zero
     return t, q, q_lat, q_lat / heat * dt
+
+
+def _all_hours(ext, t_in, model, resistance, tilt, r_inside, shape):
+    """Massless or steady response with the linear exterior and no dew, all hours at once.
+
+    Without storage and without condensate nothing couples one hour to the
+    next, so the hourly closure of the time loop is evaluated for the whole
+    (time, column) array in one go, with the same floating-point operations
+    in the same order (the results are bit for bit those of the loop, checked
+    in ``tests/test_compare.py``).
+
+    The ISO 6946 R_si depends on the direction of the heat flow, which itself
+    depends on R_si only through the size of the flux: with the linear
+    exterior, T_s − T_i = h_e (T_eq − T_i) / (h_e + U'), whose sign is that of
+    T_eq − T_i for either candidate R_si. The self-consistent candidate of
+    every element is therefore the one picked by T_eq > T_i. Where
+    T_eq = T_i exactly, both candidates give q = 0 and T_s = T_i; the
+    outward (heat-loss) value is taken, as the stepped loop does.
+    """
+    n_time, ncol = t_in.shape
+    a, b = ext.a, ext.b
+    if model == "massless":
+        t = a / b
+        q_ext = a - b * t
+        q_int = np.zeros((n_time, ncol))
+    else:
+        if r_inside is not None:
+            h_in = np.full((n_time, ncol), 1.0 / float(r_inside))
+        else:
+            inward = a / b > t_in
+            h_in = 1.0 / np.broadcast_to(r_si(tilt[None, :], inward), (n_time, ncol))
+        u_prime = 1.0 / (resistance + 1.0 / h_in)
+        r0 = u_prime * t_in
+        t = (r0 + a) / (u_prime + b)
+        q_ext = a - b * t
+        q_int = u_prime * t - r0
+    zeros = np.zeros(shape)
+    return {
+        "temp_surface": t.reshape(shape),
+        "heat_flux": q_int.reshape(shape),
+        "heat_flux_exterior": q_ext.reshape(shape),
+        "latent_flux": zeros,
+        "condensation": zeros.copy(),
+        "condensate": zeros.copy(),
+        "wet": np.zeros(shape, dtype=bool),
+        "energy": {},
+        "n_nodes": 0,
+    }
 
 
 def _initial_profile(grid, temp_out, temp_in, h_in):
@@ -321,6 +375,9 @@ def surface_response(
         if r_inside is not None:
             return np.full(ncol, 1.0 / float(r_inside))
         return 1.0 / np.broadcast_to(r_si(tilt, inward), (ncol,))
+
+    if _FAST_PATH and dewc is None and ext.linear and model != "transient":
+        return _all_hours(ext, t_in, model, resistance, tilt, r_inside, shape)
 
     out_t = np.empty((n_time, ncol))
     out_q = np.zeros((n_time, ncol))

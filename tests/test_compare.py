@@ -235,3 +235,51 @@ def test_hourly_indoor_temperature(greensboro_weather):
     with pytest.raises(solair.ConfigurationError, match="temp_indoor has 3 values"):
         compare(greensboro_weather, [ROOF], ["white_render"], "etics_wall", response="steady",
                 temp_indoor=[1.0, 2.0, 3.0])
+
+
+@pytest.mark.parametrize(("response", "construction"), [("steady", "metal_deck_roof"),
+                                                        ("massless", None)])
+def test_all_hours_path_equals_hourly_loop_greensboro(greensboro_weather, monkeypatch,
+                                                      response, construction):
+    """Regression against the stepped loop: the all-hours evaluation of the massless and
+    steady responses (linear exterior, dew off) reproduces it to 1e-9 K on real weather."""
+    from solair import response as resp
+
+    surfaces = [ROOF, NORTH, solair.Surface("south_30", 30.0, 180.0),
+                solair.Surface("soffit", 180.0, 0.0)]
+    fins = ["black_membrane", "white_single_ply_membrane", "grey_concrete", "galvanised_steel"]
+    t_in = 20.0 + 2.0 * np.sin(np.arange(8760) * 2 * np.pi / 24)
+    got = {}
+    for fast in (True, False):
+        monkeypatch.setattr(resp, "_FAST_PATH", fast)
+        got[fast] = compare(greensboro_weather, surfaces, fins, construction, response=response,
+                            dew=False, temp_indoor=t_in)
+    for name in ("temp_surface", "heat_flux", "heat_flux_exterior"):
+        assert_allclose(got[True][0][name].values, got[False][0][name].values, rtol=0,
+                        atol=1e-9)
+    pd.testing.assert_frame_equal(got[True][1], got[False][1], rtol=0, atol=1e-9)
+
+
+def test_all_hours_steady_is_series_resistance_and_tie_takes_heat_loss_r_si(monkeypatch):
+    """Steady flux = (T_eq − T_i) / (R_se + R + R_si), ISO 6946:2017 §6.7.1 (resistances in
+    series), with R_si of ISO 6946 Table 7 by the heat-flow direction; where T_eq = T_i
+    exactly both candidates give q = 0 and the heat-loss R_si is used, as in the loop."""
+    from solair import response as resp
+    from solair.constructions import r_si
+
+    t_eq = np.array([[35.0, 20.0], [5.0, 20.0], [20.0, -10.0]])
+    h_e = np.array([[20.0, 15.0], [25.0, 8.0], [12.0, 30.0]])
+    tilt = np.array([0.0, 90.0])
+    out = {}
+    for fast in (True, False):
+        monkeypatch.setattr(resp, "_FAST_PATH", fast)
+        out[fast] = resp.surface_response(t_eq, h_e, model="steady", resistance=0.5,
+                                          surface_tilt=tilt, temp_indoor=20.0)
+    for k in ("temp_surface", "heat_flux", "heat_flux_exterior"):
+        assert_allclose(out[True][k], out[False][k], rtol=0, atol=1e-12)
+    rsi = r_si(tilt[None, :], t_eq > 20.0)
+    q = (t_eq - 20.0) / (1.0 / h_e + 0.5 + rsi)
+    assert_allclose(out[True]["heat_flux"], q, rtol=1e-12, atol=1e-12)
+    assert_allclose(out[True]["heat_flux_exterior"], q, rtol=1e-12, atol=1e-12)
+    assert out[True]["heat_flux"][0, 1] == 0.0
+    assert_allclose(out[True]["temp_surface"][0, 1], 20.0, atol=1e-12)
