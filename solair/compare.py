@@ -276,7 +276,7 @@ def compare(
     t_air = col("temp_air")
     ghi = np.asarray(weather.data["ghi"].values, dtype=float)[:, None, None]
     start = local_time(ds) - pd.Timedelta(hours=1)
-    day = np.asarray(start.strftime("%Y%m%d").astype(int))
+    day = np.asarray(start.year * 10000 + start.month * 100 + start.day)  # YYYYMMDD
     dew_h, frost_h = _m.hours_below_dew_point(ts, t_dew)
     uc_h, uc_dh = _m.undercooling(ts, t_air, ghi)
     gain, loss = _m.heat_gain_loss(res["heat_flux"])

@@ -221,8 +221,10 @@ def _all_hours(ext, t_in, model, resistance, tilt, r_inside, shape):
         if r_inside is not None:
             h_in = np.full((n_time, ncol), 1.0 / float(r_inside))
         else:
-            inward = a / b > t_in
-            h_in = 1.0 / np.broadcast_to(r_si(tilt[None, :], inward), (n_time, ncol))
+            # both candidates once per column, then the self-consistent one per element
+            h_inward = 1.0 / np.broadcast_to(r_si(tilt, True), (ncol,))
+            h_outward = 1.0 / np.broadcast_to(r_si(tilt, False), (ncol,))
+            h_in = np.where(a / b > t_in, h_inward, h_outward)
         u_prime = 1.0 / (resistance + 1.0 / h_in)
         r0 = u_prime * t_in
         t = (r0 + a) / (u_prime + b)
