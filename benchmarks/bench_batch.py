@@ -18,7 +18,8 @@ climates; >= 15 climate-years/s on the 2-core machine.
 
 Usage::
 
-    python benchmarks/bench_batch.py [--climates 200] [--response NAME] [--keep-files]
+    python benchmarks/bench_batch.py [--climates 200] [--response NAME] [--construction NAME]
+        [--no-dew] [--hourly temp_surface,heat_flux] [--float32] [--keep-files]
 """
 
 from __future__ import annotations
@@ -72,7 +73,7 @@ def make_climates(folder: Path, n: int) -> list[Path]:
     return out
 
 
-OPTIONS: dict = {"response": None, "construction": None, "dew": None}
+OPTIONS: dict = {"response": None, "construction": None, "dew": None, "hourly": None}
 
 
 def portfolio(climates: list[Path], out: Path, response: str | None):
@@ -90,6 +91,8 @@ def portfolio(climates: list[Path], out: Path, response: str | None):
     }
     if OPTIONS["construction"]:
         data["construction"] = OPTIONS["construction"]
+    if OPTIONS["hourly"]:
+        data["hourly"] = OPTIONS["hourly"]
     pf = portfolio_from_dict(data, source=str(out / "bench.toml"))
     return pf.resolve(out)
 
@@ -120,24 +123,56 @@ def profile_one(path: Path, response: str | None, tmp: Path, top: int = 14) -> N
 
 
 def stage_times(climates: list[Path], response: str | None, tmp: Path) -> dict[str, float]:
-    """Median seconds per climate of read / compute / write, in-process."""
+    """Median seconds per climate of read / compute (and its parts) / write, in-process."""
     import solair
+    import solair.compare
+    import solair.engine
     from solair import batch
 
     res = portfolio(climates, tmp, response)
     settings = res.settings
-    times: dict[str, list[float]] = {"read": [], "compute (incl. read)": [], "write NetCDF": [],
-                                     "whole task": []}
+    times: dict[str, list[float]] = {"read": [], "compute (incl. read)": [],
+                                     "  exterior_forcing": [], "  sol_air": [],
+                                     "  surface_response": [], "  rest of compare": [],
+                                     "write NetCDF": [], "whole task": []}
+    parts: dict[str, float] = {}
+
+    def timed(name, fn):
+        def wrapper(*args, **kwargs):
+            t0 = time.perf_counter()
+            try:
+                return fn(*args, **kwargs)
+            finally:
+                parts[name] = parts.get(name, 0.0) + time.perf_counter() - t0
+        return wrapper
+
+    patches = [(solair.engine, "exterior_forcing", "  exterior_forcing"),
+               (solair.engine, "sol_air", "  sol_air"),
+               (solair.compare, "surface_response", "  surface_response")]
+    hourly = settings.get("hourly", {})
     (tmp / "climates").mkdir(parents=True, exist_ok=True)
     for path in climates:
         t0 = time.perf_counter()
         solair.read_weather(path)
         times["read"].append(time.perf_counter() - t0)
+        parts.clear()
+        saved = [(mod, attr, getattr(mod, attr)) for mod, attr, _ in patches]
+        for mod, attr, name in patches:
+            setattr(mod, attr, timed(name, getattr(mod, attr)))
+        try:
+            t0 = time.perf_counter()
+            ds, _ = batch.compute_climate(str(path), settings)
+            whole = time.perf_counter() - t0
+        finally:
+            for mod, attr, fn in saved:
+                setattr(mod, attr, fn)
+        times["compute (incl. read)"].append(whole)
+        for _, _, name in patches:
+            times[name].append(parts.get(name, 0.0))
+        times["  rest of compare"].append(whole - times["read"][-1] - sum(parts.values()))
         t0 = time.perf_counter()
-        ds, _ = batch.compute_climate(str(path), settings)
-        times["compute (incl. read)"].append(time.perf_counter() - t0)
-        t0 = time.perf_counter()
-        batch._write_netcdf(ds, tmp / "climates" / "x.nc")
+        batch._write_netcdf(batch._hourly_subset(ds, hourly), tmp / "climates" / "x.nc",
+                            hourly.get("dtype", "float64"))
         times["write NetCDF"].append(time.perf_counter() - t0)
         t0 = time.perf_counter()
         batch.run_climate({"label": "x", "path": str(path), "out_dir": str(tmp),
@@ -184,12 +219,21 @@ def main(argv: list[str] | None = None) -> None:
     ap.add_argument("--response", default=None, help="response model passed to compare()")
     ap.add_argument("--construction", default=None, help="library construction (default none)")
     ap.add_argument("--no-dew", action="store_true", help="dew and frost off")
+    ap.add_argument("--hourly", default=None,
+                    help="hourly variables to keep in the NetCDF, comma-separated (default all)")
+    ap.add_argument("--float32", action="store_true", help="write the hourly NetCDF as float32")
     ap.add_argument("--keep-files", action="store_true")
     ap.add_argument("--weather-dir", default=None,
                     help="folder to generate (or reuse) the weather variants in")
     args = ap.parse_args(argv)
     warnings.simplefilter("ignore")
-    OPTIONS.update(construction=args.construction, dew=False if args.no_dew else None)
+    hourly = {}
+    if args.hourly:
+        hourly["variables"] = [v.strip() for v in args.hourly.split(",") if v.strip()]
+    if args.float32:
+        hourly["dtype"] = "float32"
+    OPTIONS.update(construction=args.construction, dew=False if args.no_dew else None,
+                   hourly=hourly or None)
     print(f"load average at start: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores")
 
     tmp = Path(tempfile.mkdtemp(prefix="solair-bench-batch-"))
@@ -200,7 +244,8 @@ def main(argv: list[str] | None = None) -> None:
         climates = make_climates(weather, args.climates)
         print(f"generated {len(climates)} climate-years in {time.perf_counter() - t0:.1f} s "
               f"(17 surfaces x {len(FINISHES)} finishes each; response={args.response}, "
-              f"construction={args.construction}, dew={'off' if args.no_dew else 'on'})")
+              f"construction={args.construction}, dew={'off' if args.no_dew else 'on'}, "
+              f"hourly={hourly or 'all variables, float64'})")
 
         stages = stage_times(climates[:4], args.response, tmp / "stages")
         print("\nper climate-year, in-process (median of 4):")
