@@ -420,7 +420,23 @@ def surface_response(
     out_of = np.zeros(ncol)
     gross = np.zeros(ncol)
     inv_sub = 1.0 / substeps
+    # Dew with the massless or steady response and the linear exterior: an hour in
+    # which no column holds water and none would fall within 1 K of the dew point
+    # dry is a dry hour whatever the state, so its closure is the dry all-hours one
+    # (same operations, same bits); only the other hours are stepped.
+    skip = has_water = dry_t = None
+    if _FAST_PATH and dewc is not None and ext.linear and model != "transient":
+        dry = _all_hours(ext, t_in, model, resistance, tilt, r_inside, (n_time, ncol))
+        dry_t = dry["temp_surface"]
+        out_t[:] = dry_t
+        out_q[:] = dry["heat_flux"]
+        out_qe[:] = dry["heat_flux_exterior"]
+        skip = (~np.any(dry_t < dewc.temp_dew + 1.0, axis=1)).tolist()
+        has_water = False
     for step_no, hour in enumerate(hours):
+        if skip is not None and not has_water and skip[hour]:
+            t_surf = dry_t[hour]
+            continue
         record = step_no >= spin
         if record and step_no == spin and model == "transient":
             energy["stored_start"] = stored()
@@ -464,6 +480,7 @@ def surface_response(
                 q_int = 0.0
             if dewc is not None:
                 water = np.maximum(water + cond, 0.0)
+                has_water = bool(water.any())
                 wet_any |= water >= WET_FILM
                 acc_ql += q_lat
                 acc_g += cond

@@ -283,3 +283,26 @@ def test_all_hours_steady_is_series_resistance_and_tie_takes_heat_loss_r_si(monk
     assert_allclose(out[True]["heat_flux_exterior"], q, rtol=1e-12, atol=1e-12)
     assert out[True]["heat_flux"][0, 1] == 0.0
     assert_allclose(out[True]["temp_surface"][0, 1], 20.0, atol=1e-12)
+
+
+@pytest.mark.parametrize(("response", "construction"), [("steady", "metal_deck_roof"),
+                                                        ("massless", None)])
+def test_dew_skips_dry_hours_equal_to_hourly_loop_greensboro(greensboro_weather, monkeypatch,
+                                                             response, construction):
+    """Regression against the fully stepped loop: with dew on, stepping only the hours that
+    hold water or come within 1 K of the dew point gives the same results on real weather."""
+    from solair import response as resp
+
+    surfaces = [ROOF, NORTH, solair.Surface("south_30", 30.0, 180.0)]
+    fins = ["black_membrane", "white_single_ply_membrane", "galvanised_steel"]
+    got = {}
+    for fast in (True, False):
+        monkeypatch.setattr(resp, "_FAST_PATH", fast)
+        got[fast] = compare(greensboro_weather, surfaces, fins, construction, response=response,
+                            dew=True)
+    for name in ("temp_surface", "heat_flux", "heat_flux_exterior", "latent_flux",
+                 "condensation", "condensate"):
+        assert_allclose(got[True][0][name].values, got[False][0][name].values, rtol=0,
+                        atol=1e-9)
+    assert got[True][0]["condensate"].values.max() > 0.0  # dew did form
+    pd.testing.assert_frame_equal(got[True][1], got[False][1], rtol=0, atol=1e-9)
