@@ -50,12 +50,25 @@ class _LazyGroup(click.Group):
 
 
 class _SolairCommandGroup(_LazyGroup):
+    """Turns solair's errors and click's usage errors (bad option value, missing option) of
+    every command into one line on stderr and exit status 2."""
+
     def invoke(self, ctx: click.Context):  # noqa: D102
         try:
             return super().invoke(ctx)
         except SolairError as exc:
             click.echo(f"solair: error: {exc}", err=True)
             ctx.exit(2)
+        except click.UsageError as exc:
+            click.echo(f"solair: error: {' '.join(exc.format_message().split())}", err=True)
+            ctx.exit(2)
+
+
+def fail(message: str):
+    """Raise the one-line error of a bad command-line option (exit status 2)."""
+    from solair.errors import ConfigurationError
+
+    raise ConfigurationError(message)
 
 
 @click.group(cls=_SolairCommandGroup, context_settings={"help_option_names": ["-h", "--help"]})

@@ -8,24 +8,10 @@ from __future__ import annotations
 
 import click
 
+from solair.cli import fail
+
 RESPONSE_CHOICES = ("transient", "steady", "massless")
 EXTERIOR_CHOICES = ("linear", "nonlinear")
-
-
-class _OneLineErrors(click.Command):
-    """Click usage errors become one-line solair errors (exit 2)."""
-
-    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
-        try:
-            return super().parse_args(ctx, args)
-        except click.UsageError as exc:
-            _fail(" ".join(exc.format_message().split()))
-
-
-def _fail(message: str):
-    from solair.errors import ConfigurationError
-
-    raise ConfigurationError(message)
 
 
 _SHOWN = ("surface", "finish", "sri", "temp_surface_max", "temp_surface_p99",
@@ -36,7 +22,6 @@ _SHOWN = ("surface", "finish", "sri", "temp_surface_max", "temp_surface_p99",
 
 @click.command(
     "compare",
-    cls=_OneLineErrors,
     context_settings={"help_option_names": ["-h", "--help"]},
     epilog="Results are engineering estimates; verify against local codes and licensed "
     "professional practice.",
@@ -82,15 +67,15 @@ def compare(weather, finishes, finish_file, construction, surfaces, response, ex
 
     out = Path(output)
     if out.suffix.lower() != ".csv":
-        _fail(f"output table {output!r}: suffix {out.suffix!r} is not '.csv'")
+        fail(f"output table {output!r}: suffix {out.suffix!r} is not '.csv'")
     if hourly is not None and Path(hourly).suffix.lower() != ".nc":
-        _fail(f"--hourly file {hourly!r}: suffix must be '.nc'")
+        fail(f"--hourly file {hourly!r}: suffix must be '.nc'")
     for p in (output, hourly):
         if p is not None and not Path(p).resolve().parent.is_dir():
-            _fail(f"output folder of {p!r} does not exist")
+            fail(f"output folder of {p!r} does not exist")
     extra = load_finishes(finish_file) if finish_file else None
     if not finishes:
-        _fail(f"give at least one --finish; allowed: {available_finishes(extra)}")
+        fail(f"give at least one --finish; allowed: {available_finishes(extra)}")
     chosen = [get_finish(name, extra) for name in finishes]
 
     from solair.constructions import resolve_construction

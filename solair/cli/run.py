@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import click
 
+from solair.cli import fail
+
 # Model names are repeated here (not imported) so --help needs no heavy import;
 # tests check they match the library's sets.
 SKY_CHOICES = (
@@ -28,28 +30,8 @@ def _fraction(ctx, param, value):
     return value
 
 
-class _OneLineErrors(click.Command):
-    """Turn click's usage errors (bad option value, missing -o...) into one-line solair errors.
-
-    The CLI group prints any SolairError as one line on stderr with exit status 2.
-    """
-
-    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
-        try:
-            return super().parse_args(ctx, args)
-        except click.UsageError as exc:
-            _fail(" ".join(exc.format_message().split()))
-
-
-def _fail(message: str):
-    from solair.errors import ConfigurationError
-
-    raise ConfigurationError(message)
-
-
 @click.command(
     "run",
-    cls=_OneLineErrors,
     context_settings={"help_option_names": ["-h", "--help"]},
     epilog="Results are engineering estimates; verify against local codes and licensed "
     "professional practice.",
@@ -112,14 +94,14 @@ def run(weather, output, surfaces, absorptance, emissivity, sky, transposition, 
 
     out = Path(output)
     if out.suffix.lower() not in OUTPUT_FORMATS:
-        _fail(f"output file {output!r}: suffix {out.suffix!r} is not one of "
+        fail(f"output file {output!r}: suffix {out.suffix!r} is not one of "
               f"{sorted(OUTPUT_FORMATS)}")
     for label, extra in (("--monthly", monthly), ("--design", design)):
         if extra is not None and Path(extra).suffix.lower() != ".csv":
-            _fail(f"{label} file {extra!r}: suffix must be '.csv'")
+            fail(f"{label} file {extra!r}: suffix must be '.csv'")
     for p in (output, monthly, design):
         if p is not None and not Path(p).resolve().parent.is_dir():
-            _fail(f"output folder of {p!r} does not exist")
+            fail(f"output folder of {p!r} does not exist")
     if surfaces:
         chosen = [parse_surface(s, absorptance, emissivity) for s in surfaces]
     else:
