@@ -124,15 +124,22 @@ def surface_balance_residual(
 def _newton_surface(q0, hc, esf, t0, tol, max_iter, shape):
     """Solve q0 - hc T - esf T^4 = 0 for T [K] by vectorised Newton (global for T > 0)."""
     t = np.broadcast_to(np.maximum(t0, 1.0), shape).copy()
-    esf4 = 4.0 * esf
+    # full-shape contiguous operands: numpy's inner loops then run over the whole array
+    # instead of over a size-4 finish axis broadcast against a time x surface one
+    hc = np.array(np.broadcast_to(hc, shape), dtype=float)
+    esf = np.array(np.broadcast_to(esf, shape), dtype=float)
+    q0 = np.array(np.broadcast_to(q0, shape), dtype=float)
+    step = np.empty(shape)
+    den = np.empty(shape)
     for _ in range(max_iter):
-        t3 = t * t * t
-        den = esf4 * t3
-        den += hc
-        t3 *= esf
-        t3 *= t  # esf T^4
-        step = q0 - t3
-        step -= hc * t
+        np.multiply(t, t, out=step)
+        step *= t
+        step *= esf  # esf T^3
+        np.multiply(step, 4.0, out=den)
+        den += hc  # derivative of hc T + esf T^4
+        step += hc
+        step *= t  # hc T + esf T^4
+        np.subtract(q0, step, out=step)
         step /= den
         t += step
         largest = max(np.max(step), -np.min(step))
