@@ -159,3 +159,24 @@ def test_design_values_are_the_1_and_99_percentiles(result):
     assert_allclose(d.loc["S", "temp_sol_air_p99 (°C)"], np.percentile(v, 99))
     # 1 % of the hours lie above the 99th percentile
     assert abs((v > d.loc["S", "temp_sol_air_p99 (°C)"]).mean() - 0.01) < 0.001
+
+
+def test_h5py_writer_reads_back_identical_to_xarrays_writer(greensboro_path, tmp_path):
+    """The batch's direct h5py NetCDF writer gives the file xarray's own writer gives.
+
+    Reference: xarray's ``to_netcdf(engine="h5netcdf")`` on the same compare result;
+    read back with ``xarray.open_dataset`` both must be identical (values, attrs, encodings).
+    """
+    from solair.output import _netcdf_ready, write_netcdf_h5py
+
+    weather = solair.read_weather(greensboro_path)
+    ds, _ = solair.compare(weather, [Surface("roof", 0, 0), Surface("south", 90, 180)],
+                           ["black_membrane", "white_single_ply_membrane"])
+    ready = _netcdf_ready(ds)
+    ref, new = tmp_path / "ref.nc", tmp_path / "new.nc"
+    ready.to_netcdf(ref, engine="h5netcdf")
+    write_netcdf_h5py(ready, new)
+    with xr.open_dataset(ref, engine="h5netcdf") as a, xr.open_dataset(new, engine="h5netcdf") as b:
+        xr.testing.assert_identical(a.load(), b.load())
+        for name in a.variables:
+            assert a[name].encoding.get("dtype") == b[name].encoding.get("dtype"), name
