@@ -24,7 +24,6 @@ _LAZY = {
     "compute": "solair.engine",
     "exterior_forcing": "solair.engine",
     "sol_air": "solair.engine",
-    "compare": "solair.compare",
     "Finish": "solair.finishes",
     "load_finishes": "solair.finishes",
 }

@@ -167,10 +167,11 @@ def test_h5py_writer_reads_back_identical_to_xarrays_writer(greensboro_path, tmp
     Reference: xarray's ``to_netcdf(engine="h5netcdf")`` on the same compare result;
     read back with ``xarray.open_dataset`` both must be identical (values, attrs, encodings).
     """
+    from solair.compare import compare
     from solair.output import _netcdf_ready, write_netcdf_h5py
 
     weather = solair.read_weather(greensboro_path)
-    ds, _ = solair.compare(weather, [Surface("roof", 0, 0), Surface("south", 90, 180)],
+    ds, _ = compare(weather, [Surface("roof", 0, 0), Surface("south", 90, 180)],
                            ["black_membrane", "white_single_ply_membrane"])
     ready = _netcdf_ready(ds)
     ref, new = tmp_path / "ref.nc", tmp_path / "new.nc"
