@@ -254,16 +254,17 @@ def main(argv: list[str] | None = None) -> None:
 
         profile_one(climates[0], args.response, tmp / "profile")
 
-        from distributed import Client, LocalCluster
+        from distributed import Client
 
         n = len(climates)
         rounds = max(1, n // args.chunk)
         chunks = [climates[i * n // rounds:(i + 1) * n // rounds] for i in range(rounds)]
-        kw = {"threads_per_worker": 1, "processes": True, "dashboard_address": None,
-              "silence_logs": logging.ERROR}
+        from solair.batch import start_local_cluster
+
         # both clusters live through the whole run and take turns on the same chunks, so a
         # change of the machine's load (other jobs) hits both alike
-        with LocalCluster(n_workers=1, **kw) as c1, LocalCluster(n_workers=2, **kw) as c2, \
+        with start_local_cluster(1, silence_logs=logging.ERROR) as c1, \
+                start_local_cluster(2, silence_logs=logging.ERROR) as c2, \
                 Client(c1) as k1, Client(c2) as k2:
             k1.run(_warm_up)
             k2.run(_warm_up)

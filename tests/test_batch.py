@@ -291,16 +291,27 @@ def test_sigkill_leaves_no_truncated_output(estate, cluster_run, tmp_path):
 
 @pytest.mark.slow
 def test_existing_scheduler(estate, tmp_path, monkeypatch):
-    """--scheduler and DASK_SCHEDULER_ADDRESS connect to a cluster started elsewhere."""
-    from distributed import LocalCluster
+    """--scheduler and DASK_SCHEDULER_ADDRESS connect to a cluster started elsewhere.
+
+    The cluster is the one ``solair.batch`` starts by itself, so this also checks that its
+    workers were spawned with the allocator setting (``WORKER_ENV``).
+    """
+    import functools
+    import os
+
+    from distributed import Client
+
+    from solair.batch import WORKER_ENV, start_local_cluster
 
     weather = tmp_path / "weather"
     weather.mkdir()
     shutil.copy(estate / "weather" / "greensboro.csv", weather / "greensboro.csv")
     pf = tmp_path / "portfolio.toml"
     pf.write_text(portfolio_text(weather), encoding="utf-8")
-    with LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
-                      dashboard_address=None) as cluster:
+    with start_local_cluster(1) as cluster:
+        with Client(cluster) as client:
+            got = client.run(functools.partial(os.getenv, "MALLOC_MMAP_THRESHOLD_"))
+        assert list(got.values()) == [WORKER_ENV["MALLOC_MMAP_THRESHOLD_"]]
         result = run_cli([str(pf), "--scheduler", cluster.scheduler_address,
                           "-o", str(tmp_path / "a")])
         assert result.exit_code == 0, result.output
