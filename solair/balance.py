@@ -145,6 +145,10 @@ def _newton_surface(q0, hc, esf, t0, tol, max_iter, shape):
         largest = max(np.max(step), -np.min(step))
         if largest <= tol:
             return t
+        if not np.isfinite(largest):  # hc + 4 esf T^3 = 0 somewhere: nothing to balance
+            raise ConfigurationError(
+                "h_conv and emissivity x view factors are all zero for some element: "
+                "the surface exchanges no heat (h_e = 0)")
     raise ConfigurationError(
         f"surface balance did not converge to {tol:g} K in {max_iter} Newton steps "
         f"(largest last step {largest:.3g} K); check the inputs' magnitudes"
@@ -168,6 +172,7 @@ def temp_sol_air(
     tol: float = 1e-6,
     sigma: float = SIGMA,
     max_iter: int = 100,
+    components: bool = True,
 ) -> dict[str, Array]:
     r"""Sol-air (exterior equivalent) temperature, h_e and R_se of an outer surface.
 
@@ -217,12 +222,16 @@ def temp_sol_air(
     sigma : float, default CODATA 5.670374419e-8
         Stefan-Boltzmann constant [W m-2 K-4] (ASTM E1980 uses 5.66961e-8).
     max_iter : int, default 100
+    components : bool, default True
+        Also return the three h_r,x; False spares their full-shape arrays (the engine
+        uses only their sum).
 
     Returns
     -------
     dict of ndarray, all broadcast to a common shape
         ``temp_sol_air`` [°C], ``h_rad`` (Σ h_r,x), ``h_rad_sky``, ``h_rad_air``,
-        ``h_rad_ground``, ``h_e``, ``h_conv`` [W m-2 K-1] and ``r_se`` [m2 K W-1].
+        ``h_rad_ground`` (with ``components``), ``h_e``, ``h_conv`` [W m-2 K-1] and
+        ``r_se`` [m2 K W-1].
 
     Raises
     ------
@@ -282,15 +291,8 @@ def temp_sol_air(
     elif linearisation == "air":
         hs, ha, hg = coefficients(ta_k)
     else:
-        esf = sigma * (efs + efa + efg)
-        if np.any(hc + 4.0 * esf * 300.0**3 < H_E_MIN):  # h_e at a typical 300 K
-            raise ConfigurationError(
-                "h_conv and emissivity x view factors are all zero for some element: "
-                "the surface exchanges no heat (h_e = 0)")
-        q0 = ag + hc * ta_k + sigma * (efs * tsky_k**4 + efa * ta_k**4 + efg * tg_k**4)
-        hs, ha, hg = coefficients(ta_k)
-        t0 = ta_k + (ag + hs * d_sky + hg * d_gnd) / (hc + hs + ha + hg)
-        hs, ha, hg = coefficients(_newton_surface(q0, hc, esf, t0, tol, max_iter, shape))
+        return _surface_solution(ta, ta_k, tsky_k, tg_k, d_sky, d_gnd, ag, e, fs, fa, fg, hc,
+                                 sigma, tol, max_iter, shape, coefficients, components)
     h_rad = hs + ha + hg
     h_e = h_rad + hc
     if np.min(h_e) < H_E_MIN:
@@ -301,6 +303,61 @@ def temp_sol_air(
     t_eq += ag
     t_eq /= h_e
     t_eq += ta
-    out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_rad_sky": hs, "h_rad_air": ha,
-           "h_rad_ground": hg, "h_e": h_e, "h_conv": hc, "r_se": 1.0 / h_e}
+    out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_e": h_e, "h_conv": hc, "r_se": 1.0 / h_e}
+    if components:
+        out.update(h_rad_sky=hs, h_rad_air=ha, h_rad_ground=hg)
+    return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}
+
+
+def _surface_solution(ta, ta_k, tsky_k, tg_k, d_sky, d_gnd, ag, e, fs, fa, fg, hc, sigma,
+                      tol, max_iter, shape, coefficients, components):
+    """The ``linearisation="surface"`` branch of :func:`temp_sol_air`.
+
+    Every long-wave term is ε F_x g(T_x), so the emissivity factors out of the sum over
+    x: the sums over sky, air and ground are formed at the weather's and geometry's own
+    (time, surface) shape and multiplied by ε once, instead of once per term at the full
+    (time, surface, finish) shape. At the root T of the balance the secant coefficients
+    sum to
+
+    .. math::
+
+        h_{rad} = \\varepsilon\\sigma \\sum_x F_x (T_x^2 + T^2)(T_x + T)
+                = \\varepsilon\\sigma (P_0 + P_1 T + P_2 T^2 + P_3 T^3),
+        \\qquad P_k = \\sum_x F_x T_x^{3-k}
+
+    (one Horner pass at the full shape), and T_eq = T: the secant linearisation about the
+    root is exact there, so the equivalent temperature is the root itself, to the Newton
+    tolerance.
+    """
+    sig_e = sigma * e
+    esf = sig_e * (fs + fa + fg)
+    # q0 = alpha G + h_c T_a + eps sigma sum_x F_x T_x^4: the balance is q0 = h_c T + esf T^4
+    q0 = ag + hc * ta_k + sig_e * (fs * tsky_k**4 + fa * ta_k**4 + fg * tg_k**4)
+    # start: the air-linearised solution (coefficients at T_a, factored the same way)
+    a_sky = sigma * (tsky_k * tsky_k + ta_k * ta_k) * (tsky_k + ta_k)
+    a_gnd = sigma * (tg_k * tg_k + ta_k * ta_k) * (tg_k + ta_k)
+    a_air = 4.0 * sigma * ta_k**3
+    h_e_air = hc + e * (fs * a_sky + fa * a_air + fg * a_gnd)
+    if np.min(h_e_air) < H_E_MIN:
+        raise ConfigurationError(
+            "h_conv and emissivity x view factors are all zero for some element: "
+            "the surface exchanges no heat (h_e = 0)")
+    t0 = ta_k + (ag + e * (fs * a_sky * d_sky + fg * a_gnd * d_gnd)) / h_e_air
+    t = _newton_surface(q0, hc, esf, t0, tol, max_iter, shape)
+    h_rad = np.multiply(t, fs + fa + fg, out=np.empty(shape))  # Horner in T
+    h_rad += fs * tsky_k + fa * ta_k + fg * tg_k
+    h_rad *= t
+    h_rad += fs * tsky_k**2 + fa * ta_k**2 + fg * tg_k**2
+    h_rad *= t
+    h_rad += fs * tsky_k**3 + fa * ta_k**3 + fg * tg_k**3
+    h_rad *= sig_e
+    h_e = np.add(h_rad, hc, out=np.empty(shape))
+    if np.min(h_e) < H_E_MIN:
+        raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
+    t -= KELVIN
+    out = {"temp_sol_air": t, "h_rad": h_rad, "h_e": h_e, "h_conv": hc,
+           "r_se": np.divide(1.0, h_e, out=np.empty(shape))}
+    if components:
+        hs, ha, hg = coefficients(t + KELVIN)
+        out.update(h_rad_sky=hs, h_rad_air=ha, h_rad_ground=hg)
     return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}

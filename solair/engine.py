@@ -505,7 +505,7 @@ def sol_air(
             ta, on(f["poa_global"]), on(a), on(e), on(f["h_conv"]), temp_sky, temp_ground=tg,
             view_sky=on(f["view_sky"]), view_air=on(f["view_air"]),
             view_ground=on(f["view_ground"]), linearisation=linearisation,
-            conventional=conventional,
+            conventional=conventional, components=False,
         )
 
     shape = tuple(sizes[d] for d in dims)
@@ -615,7 +615,9 @@ def _assert_finite(ds: xr.Dataset) -> None:
     """Raise if any float variable holds NaN or inf (never return a silent NaN)."""
     for name, da in ds.data_vars.items():
         v = da.values
-        if v.dtype.kind == "f" and not np.all(np.isfinite(v)):
+        # min and max propagate NaN and show inf: two passes with no full-size temporary
+        if v.dtype.kind == "f" and v.size and not (np.isfinite(np.min(v))
+                                                   and np.isfinite(np.max(v))):
             bad = ~np.isfinite(v)
             where = np.argwhere(bad)[0]
             at = ", ".join(f"{d}={ds[d].values[i]}" for d, i in zip(da.dims, where)

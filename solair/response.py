@@ -230,14 +230,13 @@ def _all_hours(ext, t_in, model, resistance, tilt, r_inside, shape):
         t = (r0 + a) / (u_prime + b)
         q_ext = a - b * t
         q_int = u_prime * t - r0
-    zeros = np.zeros(shape)
     return {
         "temp_surface": t.reshape(shape),
         "heat_flux": q_int.reshape(shape),
         "heat_flux_exterior": q_ext.reshape(shape),
-        "latent_flux": zeros,
-        "condensation": zeros.copy(),
-        "condensate": zeros.copy(),
+        "latent_flux": np.zeros(shape),  # three calloc-ed arrays: no copy passes
+        "condensation": np.zeros(shape),
+        "condensate": np.zeros(shape),
         "wet": np.zeros(shape, dtype=bool),
         "energy": {},
         "n_nodes": 0,
