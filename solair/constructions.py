@@ -15,15 +15,13 @@ References
 
 from __future__ import annotations
 
-import re
-import tomllib
 from dataclasses import dataclass
-from importlib import resources
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
+from solair import catalogue
 from solair.errors import ConfigurationError
 
 __all__ = [
@@ -39,7 +37,6 @@ __all__ = [
     "r_si",
 ]
 
-_NAME = re.compile(r"^[a-z][a-z0-9]*(_[a-z0-9]+)*$")
 _LAYER_FIELDS = ("thickness", "conductivity", "density", "specific_heat")
 _LAYER_KEYS = {"name", "source", *_LAYER_FIELDS}
 _KEYS = {"label", "kind", "source", "layers"}
@@ -193,30 +190,10 @@ def r_si(surface_tilt, inward):
     return out if out.ndim else float(out)
 
 
-def _number(value: Any, where: str, field: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        raise ConfigurationError(f"{where}: {field} = {value!r} is not a number")
-    return float(value)
-
-
 def _parse_constructions(table: dict[str, Any], where: str) -> dict[str, Construction]:
-    entries = table.get("constructions")
-    if not isinstance(entries, dict) or not entries:
-        raise ConfigurationError(f"{where}: no [constructions.<name>] tables found")
     out: dict[str, Construction] = {}
-    for name, entry in entries.items():
-        if not _NAME.match(name):
-            raise ConfigurationError(
-                f"{where}: construction name {name!r} is not a lower_snake_case identifier"
-            )
-        if not isinstance(entry, dict):
-            raise ConfigurationError(f"{where}: construction {name!r} must be a table")
-        unknown = sorted(set(entry) - _KEYS)
-        if unknown:
-            raise ConfigurationError(
-                f"{where}: construction {name!r}: unknown field(s) {unknown}; "
-                f"allowed {sorted(_KEYS)}"
-            )
+    for name, entry in catalogue.entries(table, "constructions", "construction", _KEYS,
+                                         where):
         raw_layers = entry.get("layers")
         if not isinstance(raw_layers, list) or not raw_layers:
             raise ConfigurationError(
@@ -228,16 +205,12 @@ def _parse_constructions(table: dict[str, Any], where: str) -> dict[str, Constru
             ctx = f"{where}: construction {name!r}, layer {lname!r}"
             if not isinstance(raw, dict):
                 raise ConfigurationError(f"{ctx} must be a table")
-            unknown = sorted(set(raw) - _LAYER_KEYS)
-            if unknown:
-                raise ConfigurationError(
-                    f"{ctx}: unknown field(s) {unknown}; allowed {sorted(_LAYER_KEYS)}"
-                )
+            catalogue.unknown_fields(raw, _LAYER_KEYS, ctx)
             values = {}
             for field in _LAYER_FIELDS:
                 if field not in raw:
                     raise ConfigurationError(f"{ctx}: field {field!r} is missing")
-                value = _number(raw[field], ctx, field)
+                value = catalogue.number(raw[field], ctx, field)
                 if not (np.isfinite(value) and value > 0):
                     raise ConfigurationError(f"{ctx}: {field} = {raw[field]!r} must be > 0")
                 values[field] = value
@@ -262,24 +235,13 @@ def load_constructions(path: str | Path) -> dict[str, Construction]:
         conductivity, density or specific heat; the message names the file,
         the construction, the layer and the field.
     """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ConfigurationError(
-            f"{path}: cannot read construction file ({exc.strerror})"
-        ) from None
-    try:
-        table = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ConfigurationError(f"{path}: not valid TOML ({exc})") from None
+    table = catalogue.read_catalogue(path, "construction")
     return _parse_constructions(table, str(path))
 
 
 def _load_library() -> dict[str, Construction]:
-    text = resources.files("solair").joinpath("data/constructions.toml").read_text(
-        encoding="utf-8")
-    return _parse_constructions(tomllib.loads(text), "solair/data/constructions.toml")
+    return _parse_constructions(catalogue.read_shipped("constructions.toml"),
+                                "solair/data/constructions.toml")
 
 
 #: The shipped library, name -> Construction.

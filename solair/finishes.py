@@ -18,15 +18,13 @@ References
 
 from __future__ import annotations
 
-import re
-import tomllib
 from dataclasses import dataclass, replace
-from importlib import resources
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
+from solair import catalogue
 from solair.errors import ConfigurationError
 
 __all__ = [
@@ -44,7 +42,6 @@ __all__ = [
     "temp_surface_e1980",
 ]
 
-_NAME = re.compile(r"^[a-z][a-z0-9]*(_[a-z0-9]+)*$")
 _KEYS = {
     "label", "absorptance", "emissivity", "absorptance_aged", "emissivity_aged",
     "source", "note", "indicative",
@@ -114,36 +111,18 @@ class Finish:
 
 
 def _parse_finishes(table: dict[str, Any], where: str) -> dict[str, Finish]:
-    entries = table.get("finishes")
-    if not isinstance(entries, dict) or not entries:
-        raise ConfigurationError(f"{where}: no [finishes.<name>] tables found")
     out: dict[str, Finish] = {}
-    for name, entry in entries.items():
-        if not _NAME.match(name):
-            raise ConfigurationError(
-                f"{where}: finish name {name!r} is not a lower_snake_case identifier"
-            )
-        if not isinstance(entry, dict):
-            raise ConfigurationError(f"{where}: finish {name!r} must be a table")
-        unknown = sorted(set(entry) - _KEYS)
-        if unknown:
-            raise ConfigurationError(
-                f"{where}: finish {name!r}: unknown field(s) {unknown}; allowed {sorted(_KEYS)}"
-            )
+    for name, entry in catalogue.entries(table, "finishes", "finish", _KEYS, where):
         for key in ("absorptance", "emissivity"):
             if key not in entry:
                 raise ConfigurationError(f"{where}: finish {name!r}: field {key!r} is missing")
         for key in _FRACTIONS:
             if key not in entry:
                 continue
-            value = entry[key]
-            if isinstance(value, bool) or not isinstance(value, int | float):
+            value = catalogue.number(entry[key], f"{where}: finish {name!r}", key)
+            if not 0.0 <= value <= 1.0:
                 raise ConfigurationError(
-                    f"{where}: finish {name!r}: {key} = {value!r} is not a number"
-                )
-            if not 0.0 <= float(value) <= 1.0:
-                raise ConfigurationError(
-                    f"{where}: finish {name!r}: {key} = {value!r} is outside [0, 1]"
+                    f"{where}: finish {name!r}: {key} = {entry[key]!r} is outside [0, 1]"
                 )
         for key in ("label", "source", "note"):
             if key in entry and not isinstance(entry[key], str):
@@ -187,21 +166,12 @@ def load_finishes(path: str | Path) -> dict[str, Finish]:
         Unreadable file, bad name, missing field or a value outside [0, 1]; the
         message names the file, the finish and the field.
     """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ConfigurationError(f"{path}: cannot read finish file ({exc.strerror})") from None
-    try:
-        table = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ConfigurationError(f"{path}: not valid TOML ({exc})") from None
+    table = catalogue.read_catalogue(path, "finish")
     return _parse_finishes(table, str(path))
 
 
 def _load_catalogue() -> dict[str, Finish]:
-    text = resources.files("solair").joinpath("data/finishes.toml").read_text(encoding="utf-8")
-    return _parse_finishes(tomllib.loads(text), "solair/data/finishes.toml")
+    return _parse_finishes(catalogue.read_shipped("finishes.toml"), "solair/data/finishes.toml")
 
 
 #: The shipped catalogue, name -> Finish.
