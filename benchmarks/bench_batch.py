@@ -36,28 +36,14 @@ import warnings
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 
 FINISHES = ["black_membrane", "white_single_ply_membrane", "grey_concrete", "galvanised_steel"]
 
 
-def tmy3_variant(src: Path, dst: Path, d_temp: float, irradiance: float, wind: float) -> None:
-    """Copy a TMY3 file with shifted temperatures and scaled irradiance and wind."""
-    with open(src, newline="", encoding="utf-8") as fh:
-        head = fh.readline()
-        df = pd.read_csv(fh, dtype=str, keep_default_na=False)
-    for col in ("Dry-bulb (C)", "Dew-point (C)"):
-        df[col] = (df[col].astype(float) + d_temp).round(1).astype(str)
-    for col in ("GHI (W/m^2)", "DNI (W/m^2)", "DHI (W/m^2)"):
-        df[col] = (df[col].astype(float) * irradiance).round(0).astype(int).astype(str)
-    df["Wspd (m/s)"] = (df["Wspd (m/s)"].astype(float) * wind).round(1).astype(str)
-    with open(dst, "w", newline="", encoding="utf-8") as fh:
-        fh.write(head)
-        df.to_csv(fh, index=False, lineterminator="\n")
-
-
 def make_climates(folder: Path, n: int) -> list[Path]:
     import pvlib
+
+    from solair.testing import tmy3_variant
 
     data = Path(pvlib.__path__[0]) / "data"
     sources = [data / "723170TYA.CSV", data / "703165TY.csv"]

@@ -36,6 +36,7 @@ from solair.cli import cli
 from solair.cli.batch import Progress
 from solair.errors import ConfigurationError
 from solair.portfolio import load_portfolio
+from solair.testing import tmy3_variant
 
 DATA = Path(__file__).parent / "data"
 ERA_EPW = DATA / "tmy_45.000_8.000_2005_2023.epw"
@@ -51,23 +52,6 @@ VARIANTS = [
     ("703165TY.csv", "sand_point_windy", 0.0, 1.0, 1.3),
     ("703165TY.csv", "sand_point_dim", 0.5, 0.9, 1.0),
 ]
-
-
-def tmy3_variant(src: Path, dst: Path, d_temp: float = 0.0, irradiance: float = 1.0,
-                 wind: float = 1.0) -> Path:
-    """Copy a TMY3 file with shifted temperatures and scaled irradiance and wind."""
-    with open(src, newline="", encoding="utf-8") as fh:
-        head = fh.readline()
-        df = pd.read_csv(fh, dtype=str, keep_default_na=False)
-    for col in ("Dry-bulb (C)", "Dew-point (C)"):
-        df[col] = (df[col].astype(float) + d_temp).round(1).astype(str)
-    for col in ("GHI (W/m^2)", "DNI (W/m^2)", "DHI (W/m^2)"):
-        df[col] = (df[col].astype(float) * irradiance).round(0).astype(int).astype(str)
-    df["Wspd (m/s)"] = (df["Wspd (m/s)"].astype(float) * wind).round(1).astype(str)
-    with open(dst, "w", newline="", encoding="utf-8") as fh:
-        fh.write(head)
-        df.to_csv(fh, index=False, lineterminator="\n")
-    return dst
 
 
 def corrupt_copy(src: Path, dst: Path) -> Path:
