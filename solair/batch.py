@@ -30,7 +30,6 @@ import contextlib
 import hashlib
 import json
 import os
-import platform
 import socket
 import time
 import uuid
@@ -40,7 +39,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, TextIO
 
-from solair.errors import ConfigurationError, SolairError
+from solair.cluster import run_on_dask, versions
+from solair.errors import ConfigurationError, one_line
 from solair.portfolio import ResolvedPortfolio
 
 __all__ = [
@@ -59,26 +59,9 @@ MANIFEST = "manifest.jsonl"
 CLIMATES_DIR = "climates"
 SUMMARY = "summary"
 _TMP_MARK = ".tmp-"
-#: packages whose versions must agree between the client and every worker
-SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf")
-#: how long to wait for an existing scheduler to answer
-CONNECT_TIMEOUT = "20s"
 
 
 # --------------------------------------------------------------------------- small helpers
-
-def versions() -> dict[str, str]:
-    """Versions of Python and of the packages that shape the results."""
-    from importlib.metadata import PackageNotFoundError, version
-
-    out = {"python": platform.python_version()}
-    for pkg in (*SKEW_PACKAGES, "dask", "distributed"):
-        try:
-            out[pkg] = version(pkg)
-        except PackageNotFoundError:
-            out[pkg] = "not installed"
-    return out
-
 
 def file_sha256(path: str | os.PathLike, chunk: int = 1 << 20) -> str:
     """sha256 (hex) of a file's content."""
@@ -129,13 +112,6 @@ def _sync_folder(folder: Path) -> None:
             os.fsync(dfd)
         finally:
             os.close(dfd)
-
-
-def _one_line(exc: BaseException) -> str:
-    text = " ".join(str(exc).split())
-    if isinstance(exc, SolairError):
-        return text
-    return f"{type(exc).__name__}: {text}" if text else type(exc).__name__
 
 
 def _outputs(out_dir: Path, label: str) -> tuple[Path, Path]:
@@ -202,7 +178,7 @@ def run_climate(task: dict[str, Any]) -> dict[str, Any]:
     except MemoryError:
         record["error"] = "MemoryError: the worker ran out of memory on this climate"
     except Exception as exc:  # failure isolation: one bad climate never stops the others
-        record["error"] = _one_line(exc)
+        record["error"] = one_line(exc)
     record["seconds"] = round(time.perf_counter() - t0, 4)
     return record
 
@@ -484,9 +460,9 @@ def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, sch
                 for task in tasks:
                     finish(_started(run_climate, task))
             else:
-                _run_on_dask(tasks, finish, workers=workers, scheduler=scheduler,
-                             scheduler_file=scheduler_file, memory_limit=memory_limit,
-                             client_versions=vers)
+                run_on_dask(_started, run_climate, tasks, finish, workers=workers,
+                            scheduler=scheduler, scheduler_file=scheduler_file,
+                            memory_limit=memory_limit, client_versions=vers)
     finally:
         bar.close()
         manifest.close()
@@ -567,132 +543,3 @@ def _write_summary(out_dir: Path, labels: Iterable[str]) -> tuple[Path | None, P
         target = out_dir / f"{SUMMARY}.parquet"
         parquet_path = atomic_write(target, lambda tmp: table.to_parquet(tmp, index=False))
     return csv_path, parquet_path
-
-
-# --------------------------------------------------------------------------- dask
-
-def _worker_versions() -> dict[str, str]:
-    return versions()
-
-
-def check_version_skew(client, client_versions: dict[str, str]) -> None:
-    """Refuse to run when a worker's solair/pvlib/xarray/... differ from the client's."""
-    try:
-        client.get_versions(check=True)
-    except ValueError as exc:
-        raise ConfigurationError(
-            f"dask client and workers run different package versions: {_one_line(exc)}") from None
-    remote = client.run(_worker_versions)
-    for worker, vers in sorted(remote.items()):
-        diff = {pkg: (client_versions.get(pkg), vers.get(pkg)) for pkg in SKEW_PACKAGES
-                if vers.get(pkg) != client_versions.get(pkg)}
-        if diff:
-            text = ", ".join(f"{pkg} {c} here but {w} on the worker"
-                             for pkg, (c, w) in diff.items())
-            raise ConfigurationError(
-                f"worker {worker} runs other versions than this client: {text}; install the same "
-                f"versions on every worker (see docs/scaling.md)")
-
-
-#: glibc allocator setting for worker processes.  dask's nanny sets MALLOC_TRIM_THRESHOLD_
-#: (``distributed.nanny.pre-spawn-environ``), and setting any malloc tunable turns off glibc's
-#: dynamic mmap threshold: every array above 128 KiB is then mmap-ed fresh and unmapped on
-#: free, and each task pays page faults on all its temporaries (measured in one worker: 50-58
-#: thousand minor faults per Greensboro task against 6.7 thousand in-process, 220 against 135
-#: ms).  A fixed 32 MiB threshold (glibc's own dynamic ceiling on 64-bit) keeps the hourly
-#: arrays (8760 x 68 float64 = 4.8 MB) in the heap; RSS stays within a few MiB.  glibc reads it
-#: only at process start, so it goes in ``pre-spawn-environ``, not the nanny's ``env``.
-WORKER_ENV = {"MALLOC_MMAP_THRESHOLD_": str(32 * 1024 * 1024)}
-
-
-def start_local_cluster(n_workers: int, **kwargs: Any):
-    """Start the ``distributed.LocalCluster`` the batch uses when given no scheduler.
-
-    Worker processes with one thread each (the numerical work holds the GIL in Python
-    between numpy calls, so threads would contend), no dashboard, and :data:`WORKER_ENV` in
-    the environment the workers are spawned with.  ``kwargs`` go to ``LocalCluster``
-    (``memory_limit``, ``silence_logs``...).  The benchmark starts its clusters here too.
-    """
-    import dask
-    from distributed import LocalCluster
-
-    options = {"threads_per_worker": 1, "processes": True, "dashboard_address": None,
-               **kwargs}
-    env = {f"distributed.nanny.pre-spawn-environ.{k}": v for k, v in WORKER_ENV.items()}
-    with dask.config.set(env):
-        return LocalCluster(n_workers=n_workers, **options)
-
-
-@contextlib.contextmanager
-def _client(*, workers: int | None, scheduler: str | None, scheduler_file: str | None,
-            memory_limit: str | float | None) -> Iterator[Any]:
-    import logging
-
-    from distributed import Client
-
-    if scheduler or scheduler_file:
-        try:
-            client = (Client(scheduler_file=scheduler_file, timeout=CONNECT_TIMEOUT)
-                      if scheduler_file else Client(scheduler, timeout=CONNECT_TIMEOUT))
-        except (OSError, TimeoutError, ValueError) as exc:
-            where = (f"--scheduler-file {scheduler_file!r}" if scheduler_file
-                     else f"scheduler {scheduler!r}")
-            raise ConfigurationError(f"cannot connect to the dask {where}: "
-                                     f"{_one_line(exc)}") from None
-        try:
-            yield client
-        finally:
-            client.close()
-        return
-    cluster = start_local_cluster(workers if workers else _cores(),
-                                  memory_limit=memory_limit, silence_logs=logging.ERROR)
-    client = Client(cluster)
-    try:
-        yield client
-    finally:
-        client.close()
-        cluster.close()
-
-
-def _cores() -> int:
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # pragma: no cover - not on Linux
-        return max(1, os.cpu_count() or 1)
-
-
-def _run_on_dask(tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]], None], *,
-                 workers: int | None, scheduler: str | None, scheduler_file: str | None,
-                 memory_limit: str | float | None, client_versions: dict[str, str]) -> None:
-    from distributed import as_completed
-
-    with _client(workers=workers, scheduler=scheduler, scheduler_file=scheduler_file,
-                 memory_limit=memory_limit) as client:
-        check_version_skew(client, client_versions)
-        n_threads = max(1, sum(client.nthreads().values()))
-        window = max(4, 2 * n_threads)  # bounded in-flight futures: flat client memory
-        queue = iter(tasks)
-        by_future: dict[Any, dict[str, Any]] = {}
-
-        def submit(task: dict[str, Any]):
-            fut = client.submit(_started, run_climate, task, pure=False,
-                                key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
-            by_future[fut] = task
-            return fut
-
-        pending = as_completed([submit(t) for _, t in zip(range(window), queue)])
-        for fut in pending:
-            task = by_future.pop(fut)
-            try:
-                rec = fut.result()
-            except Exception as exc:  # e.g. a worker killed under this task (KilledWorker)
-                rec = {"label": task["label"], "path": task["path"], "status": "failed",
-                       "error": _one_line(exc), "input_sha256": task.get("client_sha256"),
-                       "config_sha256": task["config_hash"],
-                       "seconds": None, "worker": None}
-            fut.release()
-            finish(rec)
-            nxt = next(queue, None)
-            if nxt is not None:
-                pending.add(submit(nxt))
-

@@ -6,7 +6,7 @@ status 2; library users catch them as ``ValueError``.
 
 from __future__ import annotations
 
-__all__ = ["SolairError", "WeatherFileError", "ConfigurationError"]
+__all__ = ["SolairError", "WeatherFileError", "ConfigurationError", "one_line"]
 
 
 class SolairError(ValueError):
@@ -28,3 +28,11 @@ class ConfigurationError(SolairError):
     The message names the setting (or key path), the value given and what is
     allowed.
     """
+
+
+def one_line(exc: BaseException) -> str:
+    """An exception as one line: solair's own message as is, others prefixed by their type."""
+    text = " ".join(str(exc).split())
+    if isinstance(exc, SolairError):
+        return text
+    return f"{type(exc).__name__}: {text}" if text else type(exc).__name__

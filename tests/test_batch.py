@@ -28,12 +28,12 @@ from click.testing import CliRunner
 from solair.batch import (
     _Manifest,
     atomic_write,
-    check_version_skew,
     read_manifest,
     run_portfolio,
 )
 from solair.cli import cli
 from solair.cli.batch import Progress
+from solair.cluster import check_version_skew
 from solair.errors import ConfigurationError
 from solair.portfolio import load_portfolio
 from solair.testing import tmy3_variant
@@ -285,7 +285,7 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
 
     from distributed import Client
 
-    from solair.batch import WORKER_ENV, start_local_cluster
+    from solair.cluster import WORKER_ENV, start_local_cluster
 
     weather = tmp_path / "weather"
     weather.mkdir()
@@ -356,9 +356,9 @@ def test_conflicting_options_exit_2(estate, tmp_path):
 
 
 def test_unreachable_scheduler_exit_2(estate, tmp_path, monkeypatch):
-    import solair.batch
+    import solair.cluster
 
-    monkeypatch.setattr(solair.batch, "CONNECT_TIMEOUT", "1s")
+    monkeypatch.setattr(solair.cluster, "CONNECT_TIMEOUT", "1s")
     result = CliRunner().invoke(cli, ["batch", str(estate / "portfolio.toml"), "--scheduler",
                                       "tcp://127.0.0.1:9", "-o", str(tmp_path)])
     assert result.exit_code == 2, result.output
@@ -377,7 +377,7 @@ class _FakeClient:
 
 
 def test_version_skew_is_refused():
-    from solair.batch import versions
+    from solair.cluster import versions
 
     here = versions()
     check_version_skew(_FakeClient(dict(here)), here)  # same versions: no error

@@ -1,0 +1,186 @@
+"""Where the batch's tasks run: a local dask cluster or an existing dask.distributed one.
+
+:func:`connect` gives a ``distributed.Client``: to the scheduler given (address or
+scheduler file), else to a :func:`start_local_cluster` of worker processes on this
+machine. :func:`check_version_skew` refuses a cluster whose workers run other
+versions of the packages that shape the results. :func:`run_on_dask` streams the
+tasks through it with a bounded number in flight. What a task computes and how the
+client records it live in :mod:`solair.batch`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import platform
+import uuid
+from collections.abc import Callable, Iterator
+from typing import Any
+
+from solair.errors import ConfigurationError, one_line
+
+__all__ = [
+    "SKEW_PACKAGES",
+    "WORKER_ENV",
+    "check_version_skew",
+    "connect",
+    "cores",
+    "run_on_dask",
+    "start_local_cluster",
+    "versions",
+]
+
+#: packages whose versions must agree between the client and every worker
+SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf")
+#: how long to wait for an existing scheduler to answer
+CONNECT_TIMEOUT = "20s"
+
+
+def versions() -> dict[str, str]:
+    """Versions of Python and of the packages that shape the results."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    out = {"python": platform.python_version()}
+    for pkg in (*SKEW_PACKAGES, "dask", "distributed"):
+        try:
+            out[pkg] = version(pkg)
+        except PackageNotFoundError:
+            out[pkg] = "not installed"
+    return out
+
+
+def _worker_versions() -> dict[str, str]:
+    return versions()
+
+
+def check_version_skew(client, client_versions: dict[str, str]) -> None:
+    """Refuse to run when a worker's solair/pvlib/xarray/... differ from the client's."""
+    try:
+        client.get_versions(check=True)
+    except ValueError as exc:
+        raise ConfigurationError(
+            f"dask client and workers run different package versions: {one_line(exc)}") from None
+    remote = client.run(_worker_versions)
+    for worker, vers in sorted(remote.items()):
+        diff = {pkg: (client_versions.get(pkg), vers.get(pkg)) for pkg in SKEW_PACKAGES
+                if vers.get(pkg) != client_versions.get(pkg)}
+        if diff:
+            text = ", ".join(f"{pkg} {c} here but {w} on the worker"
+                             for pkg, (c, w) in diff.items())
+            raise ConfigurationError(
+                f"worker {worker} runs other versions than this client: {text}; install the same "
+                f"versions on every worker (see docs/scaling.md)")
+
+
+#: glibc allocator setting for worker processes.  dask's nanny sets MALLOC_TRIM_THRESHOLD_
+#: (``distributed.nanny.pre-spawn-environ``), and setting any malloc tunable turns off glibc's
+#: dynamic mmap threshold: every array above 128 KiB is then mmap-ed fresh and unmapped on
+#: free, and each task pays page faults on all its temporaries (measured in one worker: 50-58
+#: thousand minor faults per Greensboro task against 6.7 thousand in-process, 220 against 135
+#: ms).  A fixed 32 MiB threshold (glibc's own dynamic ceiling on 64-bit) keeps the hourly
+#: arrays (8760 x 68 float64 = 4.8 MB) in the heap; RSS stays within a few MiB.  glibc reads it
+#: only at process start, so it goes in ``pre-spawn-environ``, not the nanny's ``env``.
+WORKER_ENV = {"MALLOC_MMAP_THRESHOLD_": str(32 * 1024 * 1024)}
+
+
+def start_local_cluster(n_workers: int, **kwargs: Any):
+    """Start the ``distributed.LocalCluster`` the batch uses when given no scheduler.
+
+    Worker processes with one thread each (the numerical work holds the GIL in Python
+    between numpy calls, so threads would contend), no dashboard, and :data:`WORKER_ENV` in
+    the environment the workers are spawned with.  ``kwargs`` go to ``LocalCluster``
+    (``memory_limit``, ``silence_logs``...).  The benchmark starts its clusters here too.
+    """
+    import dask
+    from distributed import LocalCluster
+
+    options = {"threads_per_worker": 1, "processes": True, "dashboard_address": None,
+               **kwargs}
+    env = {f"distributed.nanny.pre-spawn-environ.{k}": v for k, v in WORKER_ENV.items()}
+    with dask.config.set(env):
+        return LocalCluster(n_workers=n_workers, **options)
+
+
+@contextlib.contextmanager
+def connect(*, workers: int | None, scheduler: str | None, scheduler_file: str | None,
+            memory_limit: str | float | None) -> Iterator[Any]:
+    import logging
+
+    from distributed import Client
+
+    if scheduler or scheduler_file:
+        try:
+            client = (Client(scheduler_file=scheduler_file, timeout=CONNECT_TIMEOUT)
+                      if scheduler_file else Client(scheduler, timeout=CONNECT_TIMEOUT))
+        except (OSError, TimeoutError, ValueError) as exc:
+            where = (f"--scheduler-file {scheduler_file!r}" if scheduler_file
+                     else f"scheduler {scheduler!r}")
+            raise ConfigurationError(f"cannot connect to the dask {where}: "
+                                     f"{one_line(exc)}") from None
+        try:
+            yield client
+        finally:
+            client.close()
+        return
+    cluster = start_local_cluster(workers if workers else cores(),
+                                  memory_limit=memory_limit, silence_logs=logging.ERROR)
+    client = Client(cluster)
+    try:
+        yield client
+    finally:
+        client.close()
+        cluster.close()
+
+
+def cores() -> int:
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def run_on_dask(wrap: Callable[..., dict[str, Any]], fn: Callable[[dict[str, Any]], dict],
+                tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]], None], *,
+                workers: int | None, scheduler: str | None, scheduler_file: str | None,
+                memory_limit: str | float | None, client_versions: dict[str, str]) -> None:
+    """Run ``wrap(fn, task)`` for every task on dask; call ``finish(record)`` as each ends.
+
+    Connects to ``scheduler`` / ``scheduler_file`` or starts :func:`start_local_cluster`
+    with ``workers`` processes (all cores when None), checks the workers' versions
+    (:func:`check_version_skew`), keeps at most twice as many tasks in flight as there are
+    worker threads (the client's memory stays flat in the number of tasks) and hands
+    every finished record to ``finish`` in the client, in completion order. A task
+    whose worker dies becomes a failed record with the one-line reason.
+    """
+    from distributed import as_completed
+
+    with connect(workers=workers, scheduler=scheduler, scheduler_file=scheduler_file,
+                 memory_limit=memory_limit) as client:
+        check_version_skew(client, client_versions)
+        n_threads = max(1, sum(client.nthreads().values()))
+        window = max(4, 2 * n_threads)  # bounded in-flight futures: flat client memory
+        queue = iter(tasks)
+        by_future: dict[Any, dict[str, Any]] = {}
+
+        def submit(task: dict[str, Any]):
+            fut = client.submit(wrap, fn, task, pure=False,
+                                key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
+            by_future[fut] = task
+            return fut
+
+        pending = as_completed([submit(t) for _, t in zip(range(window), queue)])
+        for fut in pending:
+            task = by_future.pop(fut)
+            try:
+                rec = fut.result()
+            except Exception as exc:  # e.g. a worker killed under this task (KilledWorker)
+                rec = {"label": task["label"], "path": task["path"], "status": "failed",
+                       "error": one_line(exc), "input_sha256": task.get("client_sha256"),
+                       "config_sha256": task["config_hash"],
+                       "seconds": None, "worker": None}
+            fut.release()
+            finish(rec)
+            nxt = next(queue, None)
+            if nxt is not None:
+                pending.add(submit(nxt))
+
