@@ -31,7 +31,7 @@ __all__ = [
 ]
 
 #: packages whose versions must agree between the client and every worker
-SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf")
+SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf", "h5py")
 #: how long to wait for an existing scheduler to answer
 CONNECT_TIMEOUT = "20s"
 
