@@ -39,9 +39,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, TextIO
 
-from solair.cluster import run_on_dask, versions
+from solair.cluster import run_on_dask
 from solair.errors import ConfigurationError, one_line
 from solair.portfolio import ResolvedPortfolio
+from solair.provenance import CAUTION, versions
 
 __all__ = [
     "CAUTION",
@@ -54,7 +55,6 @@ __all__ = [
     "versions",
 ]
 
-CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 MANIFEST = "manifest.jsonl"
 CLIMATES_DIR = "climates"
 SUMMARY = "summary"

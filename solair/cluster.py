@@ -12,12 +12,12 @@ from __future__ import annotations
 
 import contextlib
 import os
-import platform
 import uuid
 from collections.abc import Callable, Iterator
 from typing import Any
 
 from solair.errors import ConfigurationError, one_line
+from solair.provenance import SKEW_PACKAGES, versions
 
 __all__ = [
     "SKEW_PACKAGES",
@@ -30,23 +30,8 @@ __all__ = [
     "versions",
 ]
 
-#: packages whose versions must agree between the client and every worker
-SKEW_PACKAGES = ("solair", "pvlib", "xarray", "numpy", "pandas", "h5netcdf", "h5py")
 #: how long to wait for an existing scheduler to answer
 CONNECT_TIMEOUT = "20s"
-
-
-def versions() -> dict[str, str]:
-    """Versions of Python and of the packages that shape the results."""
-    from importlib.metadata import PackageNotFoundError, version
-
-    out = {"python": platform.python_version()}
-    for pkg in (*SKEW_PACKAGES, "dask", "distributed"):
-        try:
-            out[pkg] = version(pkg)
-        except PackageNotFoundError:
-            out[pkg] = "not installed"
-    return out
 
 
 def _worker_versions() -> dict[str, str]:

@@ -24,11 +24,11 @@ from solair import metrics as _m
 from solair.constructions import Construction, r_si, resolve_construction
 from solair.errors import ConfigurationError
 from solair.finishes import Finish, get_finish, sri
+from solair.provenance import CAUTION
 from solair.response import EXTERIOR_MODELS, RESPONSE_MODELS, surface_response
 
 __all__ = ["compare", "sri_table", "CAUTION", "METRIC_COLUMNS", "EVAPOTRANSPIRATION_NOTE"]
 
-CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 EVAPOTRANSPIRATION_NOTE = (
     "vegetated roof results are indicative only: the sol-air balance ignores "
     "evapotranspiration, which keeps a planted roof much cooler")

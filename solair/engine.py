@@ -17,11 +17,9 @@ naive UTC, each label the **end** of the hour it covers; the global attribute
 
 from __future__ import annotations
 
-import functools
 import os
 import warnings
 from collections.abc import Iterable
-from importlib.metadata import version as _pkg_version
 
 import numpy as np
 import pandas as pd
@@ -32,6 +30,7 @@ from solair import balance, longwave, sun
 from solair import convection as _convection
 from solair import sky as _sky
 from solair.errors import ConfigurationError
+from solair.provenance import CAUTION, solair_version
 from solair.surfaces import Surface, check_unique_names, default_surfaces
 
 __all__ = [
@@ -44,7 +43,6 @@ __all__ = [
     "check_options",
 ]
 
-CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 LINEARISATIONS = balance.LINEARISATIONS
 TERRAINS = frozenset({"station", *_convection.TERRAIN_ASHRAE})
 
@@ -390,7 +388,7 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
     counts = np.bincount(np.asarray(source, dtype=np.int64), minlength=len(codes))
     ds.attrs.update({
         "title": "solair exterior forcing",
-        "solair_version": _solair_version(),
+        "solair_version": solair_version(),
         "pvlib_version": pvlib.__version__,
         "sky_model": sky_model,
         "transposition_model": transposition,
@@ -422,16 +420,6 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
         ds.attrs[f"sky_source_hours_{_sky.SKY_SOURCES[code]}"] = int(count)
     _assert_finite(ds)
     return ds
-
-
-@functools.lru_cache(maxsize=1)
-def _solair_version() -> str:
-    try:
-        return _pkg_version("solair")
-    except Exception:  # not installed as a distribution
-        from solair import __version__
-
-        return __version__
 
 
 def _as_property(value, name: str, ds: xr.Dataset) -> xr.DataArray:

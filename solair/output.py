@@ -43,6 +43,7 @@ import pandas as pd
 import xarray as xr
 
 from solair.errors import ConfigurationError
+from solair.provenance import CAUTION
 
 __all__ = [
     "OUTPUT_FORMATS",
@@ -64,7 +65,6 @@ OUTPUT_FORMATS = {".csv": "csv", ".nc": "netcdf"}
 #: Start of the metadata line of a result CSV that holds the JSON record.
 CSV_RECORD_PREFIX = "# solair record (JSON): "
 
-_CAUTION = "engineering estimate; verify against local codes and licensed professional practice"
 _UNIT_TEXT = {"degC": "°C", "1": "-"}
 _FLOAT_FORMAT = "%.6g"
 
@@ -385,7 +385,7 @@ def csv_metadata_lines(ds: xr.Dataset, offset_text: str | None = None) -> list[s
     a = ds.attrs
     product = " ".join(("solair", str(a.get("solair_version", "")))).strip()
     lines = [f"{product} — exterior equivalent (sol-air) temperature and external surface "
-             "resistance R_se", f"caution: {a.get('caution', _CAUTION)}"]
+             "resistance R_se", f"caution: {a.get('caution', CAUTION)}"]
     if "site_name" in a:
         where = ", ".join(f"{label} {_g(a[key])}{unit}" for key, label, unit in (
             ("latitude", "latitude", "°"), ("longitude", "longitude", "° (east positive)"),

@@ -55,6 +55,7 @@ from typing import Any
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
 
 from solair.errors import ConfigurationError
+from solair.provenance import solair_version
 
 __all__ = [
     "PATH_TOKENS",
@@ -450,24 +451,13 @@ def _resolve(pf: Portfolio, output: str | os.PathLike | None) -> ResolvedPortfol
         "models": _resolve_models(pf, fname),
         "metrics": _resolve_metrics(pf, fname),
         "hourly": _resolve_hourly(pf, fname),
-        "solair_version": _solair_version(),
+        "solair_version": solair_version(),
     }
     out = Path(output) if output is not None else Path(pf.output)
     if not out.is_absolute():
         out = (Path.cwd() if output is not None else base) / out
     return ResolvedPortfolio(name=pf.name, source=pf.source, output_dir=os.path.normpath(out),
                              climates=tuple(climates), settings=settings)
-
-
-def _solair_version() -> str:
-    from importlib.metadata import PackageNotFoundError, version
-
-    try:
-        return version("solair")
-    except PackageNotFoundError:  # pragma: no cover - running from a source tree
-        from solair import __version__
-
-        return __version__
 
 
 def _safe_label(stem: str) -> str:

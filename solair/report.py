@@ -30,11 +30,13 @@ from solair.errors import ConfigurationError
 from solair.output import atomic_path
 from solair.plots import detect_result_type, draw, figure_png, load_result, shaping
 from solair.plots.shaping import design_values_table, monthly_means_table
+from solair.provenance import CAUTION as _CAUTION
 
 __all__ = ["CAUTION", "MODEL_SOURCES", "SECTIONS", "build_report", "write_report",
            "design_values_table", "monthly_means_table"]
 
-CAUTION = "Engineering estimate; verify against local codes and licensed professional practice."
+#: the caution as a sentence, for the report's text
+CAUTION = _CAUTION[:1].upper() + _CAUTION[1:] + "."
 
 #: section id -> heading, in the order of the page
 SECTIONS: dict[str, str] = {
