@@ -22,9 +22,12 @@ References
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import re
+import warnings
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -150,6 +153,19 @@ def _data_lines(lines: list[str], start: int, name: str) -> list[str]:
     return body
 
 
+@contextlib.contextmanager
+def _quiet_pandas() -> Iterator[None]:
+    """Silence pandas' mixed-type warning inside pvlib's readers.
+
+    The warning names no file and no line; the columns solair uses are converted and
+    checked field by field afterwards (:func:`_to_number`), and a bad value there is a
+    :class:`WeatherFileError` naming the file, the line and the column.
+    """
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", pd.errors.DtypeWarning)
+        yield
+
+
 def _to_number(values: pd.Series, column: str, lines: np.ndarray, name: str,
                field_name: str) -> np.ndarray:
     """Convert a column to float, naming the first line with a non-number."""
@@ -273,7 +289,8 @@ def _parse_epw(text: str, name: str, fast: bool = True) -> RawTable:
     # pvlib's index cannot hold 29 February on a non-leap year: coerce to 2000 (a
     # leap year); solair builds its own index from month, day and hour anyway.
     try:
-        df, _ = read_epw(io.StringIO("\n".join(lines[:8] + body) + "\n"), coerce_year=2000)
+        with _quiet_pandas():
+            df, _ = read_epw(io.StringIO("\n".join(lines[:8] + body) + "\n"), coerce_year=2000)
     except Exception as exc:  # pvlib/pandas message is not for users; name the file
         raise _fail(name, f"EPW data could not be parsed ({type(exc).__name__}: {exc})") from None
     if len(df) != len(body):
@@ -374,7 +391,9 @@ def _parse_tmy3(text: str, name: str, fast: bool = True) -> RawTable:
     line_no = np.arange(3, 3 + len(body))
     _check_calendar(month, day, hour, line_no, name)
     try:
-        df, _ = read_tmy3(io.StringIO("\n".join(lines[:2] + body) + "\n"), map_variables=True)
+        with _quiet_pandas():
+            df, _ = read_tmy3(io.StringIO("\n".join(lines[:2] + body) + "\n"),
+                              map_variables=True)
     except Exception as exc:
         raise _fail(name, f"TMY3 data could not be parsed ({type(exc).__name__}: {exc})") from None
     out = {}
