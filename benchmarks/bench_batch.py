@@ -242,11 +242,11 @@ def main(argv: list[str] | None = None) -> None:
 
         from distributed import Client
 
+        from solair.cluster import start_local_cluster
+
         n = len(climates)
         rounds = max(1, n // args.chunk)
         chunks = [climates[i * n // rounds:(i + 1) * n // rounds] for i in range(rounds)]
-        from solair.cluster import start_local_cluster
-
         # both clusters live through the whole run and take turns on the same chunks, so a
         # change of the machine's load (other jobs) hits both alike
         with start_local_cluster(1, silence_logs=logging.ERROR) as c1, \

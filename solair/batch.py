@@ -458,9 +458,9 @@ def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, sch
         if tasks:
             if workers == 0:
                 for task in tasks:
-                    finish(_started(run_climate, task))
+                    finish(_run_task(task))
             else:
-                run_on_dask(_started, run_climate, tasks, finish, workers=workers,
+                run_on_dask(_run_task, tasks, finish, _lost_task, workers=workers,
                             scheduler=scheduler, scheduler_file=scheduler_file,
                             memory_limit=memory_limit, client_versions=vers)
     finally:
@@ -488,11 +488,19 @@ def _now() -> str:
     return time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime())
 
 
-def _started(fn: Callable[[dict], dict], task: dict[str, Any]) -> dict[str, Any]:
+def _run_task(task: dict[str, Any]) -> dict[str, Any]:
+    """:func:`run_climate` with its start time (what a worker, or the serial loop, runs)."""
     started = _now()
-    rec = fn(task)
+    rec = run_climate(task)
     rec["started"] = started
     return rec
+
+
+def _lost_task(task: dict[str, Any], exc: BaseException) -> dict[str, Any]:
+    """The failed record of a task that returned nothing (e.g. its worker was killed)."""
+    return {"label": task["label"], "path": task["path"], "status": "failed",
+            "error": one_line(exc), "input_sha256": task.get("client_sha256"),
+            "config_sha256": task["config_hash"], "seconds": None, "worker": None}
 
 
 def _task_record(rec: dict[str, Any], vers: dict[str, str]) -> dict[str, Any]:

@@ -89,6 +89,17 @@ def start_local_cluster(n_workers: int, **kwargs: Any):
 @contextlib.contextmanager
 def connect(*, workers: int | None, scheduler: str | None, scheduler_file: str | None,
             memory_limit: str | float | None) -> Iterator[Any]:
+    """A ``distributed.Client``, closed (with its local cluster, if one was started) on exit.
+
+    To ``scheduler`` (an address) or ``scheduler_file`` when given, waiting at most
+    :data:`CONNECT_TIMEOUT`; else to a :func:`start_local_cluster` of ``workers`` processes
+    (:func:`cores` when None or 0) with ``memory_limit`` each.
+
+    Raises
+    ------
+    ConfigurationError
+        The scheduler cannot be reached (one line naming it and the reason).
+    """
     import logging
 
     from distributed import Client
@@ -118,24 +129,29 @@ def connect(*, workers: int | None, scheduler: str | None, scheduler_file: str |
 
 
 def cores() -> int:
+    """The cores this process may run on (its CPU affinity), at least 1."""
     try:
         return max(1, len(os.sched_getaffinity(0)))
     except AttributeError:  # pragma: no cover - not on Linux
         return max(1, os.cpu_count() or 1)
 
 
-def run_on_dask(wrap: Callable[..., dict[str, Any]], fn: Callable[[dict[str, Any]], dict],
-                tasks: list[dict[str, Any]], finish: Callable[[dict[str, Any]], None], *,
+def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict[str, Any]],
+                finish: Callable[[dict[str, Any]], None],
+                lost: Callable[[dict[str, Any], BaseException], dict[str, Any]], *,
                 workers: int | None, scheduler: str | None, scheduler_file: str | None,
                 memory_limit: str | float | None, client_versions: dict[str, str]) -> None:
-    """Run ``wrap(fn, task)`` for every task on dask; call ``finish(record)`` as each ends.
+    """Run ``fn(task)`` for every task on dask; call ``finish(record)`` as each ends.
+
+    ``fn`` must be importable by the workers (a module-level function); it receives the
+    task dict and returns its record.
 
     Connects to ``scheduler`` / ``scheduler_file`` or starts :func:`start_local_cluster`
     with ``workers`` processes (all cores when None), checks the workers' versions
     (:func:`check_version_skew`), keeps at most twice as many tasks in flight as there are
     worker threads (the client's memory stays flat in the number of tasks) and hands
-    every finished record to ``finish`` in the client, in completion order. A task
-    whose worker dies becomes a failed record with the one-line reason.
+    every finished record to ``finish`` in the client, in completion order. A task that
+    returns nothing (its worker died, say) is handed on as ``lost(task, exception)``.
     """
     from distributed import as_completed
 
@@ -148,7 +164,7 @@ def run_on_dask(wrap: Callable[..., dict[str, Any]], fn: Callable[[dict[str, Any
         by_future: dict[Any, dict[str, Any]] = {}
 
         def submit(task: dict[str, Any]):
-            fut = client.submit(wrap, fn, task, pure=False,
+            fut = client.submit(fn, task, pure=False,
                                 key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
             by_future[fut] = task
             return fut
@@ -159,13 +175,9 @@ def run_on_dask(wrap: Callable[..., dict[str, Any]], fn: Callable[[dict[str, Any
             try:
                 rec = fut.result()
             except Exception as exc:  # e.g. a worker killed under this task (KilledWorker)
-                rec = {"label": task["label"], "path": task["path"], "status": "failed",
-                       "error": one_line(exc), "input_sha256": task.get("client_sha256"),
-                       "config_sha256": task["config_hash"],
-                       "seconds": None, "worker": None}
+                rec = lost(task, exc)
             fut.release()
             finish(rec)
             nxt = next(queue, None)
             if nxt is not None:
                 pending.add(submit(nxt))
-

@@ -505,3 +505,27 @@ def test_one_run_per_output_folder(tmp_path, estate):
                                           "0", "-o", str(out)])
     assert result.exit_code == 2
     assert "another solair batch is running on this folder" in result.output
+
+
+def _lost_marker(task, exc):
+    return {"label": task["label"], "status": "failed", "error": type(exc).__name__}
+
+
+@pytest.mark.slow
+def test_run_on_dask_hands_on_tasks_that_return_nothing():
+    """A task whose future raises (here a KeyError inside the worker, as a killed worker's
+    KilledWorker would) reaches ``finish`` as ``lost(task, exc)``; the others complete."""
+    import operator
+
+    from solair.cluster import run_on_dask, start_local_cluster
+    from solair.provenance import versions
+
+    tasks = [{"label": "a", "value": 1}, {"label": "b"}, {"label": "c", "value": 3}]
+    got = []
+    with start_local_cluster(1) as cluster:
+        run_on_dask(operator.itemgetter("value"), tasks,
+                    lambda rec: got.append(rec), _lost_marker, workers=None,
+                    scheduler=cluster.scheduler_address, scheduler_file=None,
+                    memory_limit=None, client_versions=versions())
+    assert sorted(got, key=str) == sorted(
+        [1, 3, {"label": "b", "status": "failed", "error": "KeyError"}], key=str)
