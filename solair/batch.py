@@ -415,17 +415,18 @@ def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, sch
     tasks: list[dict[str, Any]] = []
     skipped: list[dict[str, Any]] = []
     for clim in portfolio.climates:
-        try:
-            sha = file_sha256(clim.path)
-        except OSError:
-            sha = None
         task_hash = portfolio.task_config_hash(clim)
         task = {"label": clim.label, "path": clim.path, "out_dir": str(out_dir),
                 "settings": portfolio.settings, "config_hash": task_hash,
-                "utc_offset": clim.utc_offset, "portfolio": portfolio.name,
-                "client_sha256": sha}
+                "utc_offset": clim.utc_offset, "portfolio": portfolio.name}
         prev = previous.get(clim.label)
-        if not force and sha is not None and _is_current(prev, sha, task_hash, out_dir):
+        # the client hashes a weather file only to decide a resume; the task hashes what it
+        # reads itself (a first or forced run of 200 files spares ~0.5 s before any task starts)
+        sha = None
+        if not force and prev and prev.get("status") in ("done", "skipped"):
+            with contextlib.suppress(OSError):
+                sha = file_sha256(clim.path)
+        if sha is not None and _is_current(prev, sha, task_hash, out_dir):
             skipped.append({**prev, "status": "skipped", "seconds": 0.0, "started": None,
                             "finished": None})
         else:
@@ -498,8 +499,11 @@ def _run_task(task: dict[str, Any]) -> dict[str, Any]:
 
 def _lost_task(task: dict[str, Any], exc: BaseException) -> dict[str, Any]:
     """The failed record of a task that returned nothing (e.g. its worker was killed)."""
+    sha = None
+    with contextlib.suppress(OSError):
+        sha = file_sha256(task["path"])
     return {"label": task["label"], "path": task["path"], "status": "failed",
-            "error": one_line(exc), "input_sha256": task.get("client_sha256"),
+            "error": one_line(exc), "input_sha256": sha,
             "config_sha256": task["config_hash"], "seconds": None, "worker": None}
 
 
@@ -532,22 +536,45 @@ def _remove_stale_temporaries(out_dir: Path) -> None:
 
 
 def _write_summary(out_dir: Path, labels: Iterable[str]) -> tuple[Path | None, Path | None]:
-    """Concatenate the per-climate metric files into summary.csv (+ .parquet), atomically."""
-    import pandas as pd
+    """Concatenate the per-climate metric files into summary.csv (+ .parquet), atomically.
 
-    frames = []
-    for label in labels:
-        frames.append(pd.read_csv(_outputs(out_dir, label)[1]))
-    if not frames:
+    The metric files of one configuration share their header, so the CSV is their text
+    joined under one header (no parse and re-format: ~0.1 ms per climate instead of a
+    ``read_csv`` each, which made the summary of 200 climates cost about a second at the end
+    of the run); files with another header fall back to a pandas concat (union of columns).
+    The Parquet table is parsed once from the finished CSV.
+    """
+    paths = [_outputs(out_dir, label)[1] for label in labels]
+    if not paths:
         return None, None
-    table = pd.concat(frames, ignore_index=True)
-    csv_path = atomic_write(out_dir / f"{SUMMARY}.csv", lambda tmp: table.to_csv(tmp, index=False))
+    texts = [p.read_text(encoding="utf-8") for p in paths]
+    heads = {t.split("\n", 1)[0] for t in texts}
+    if len(heads) == 1:
+        def write(tmp: Path) -> None:
+            with open(tmp, "w", encoding="utf-8", newline="") as fh:
+                fh.write(texts[0].split("\n", 1)[0] + "\n")
+                for t in texts:
+                    body = t.split("\n", 1)[1] if "\n" in t else ""
+                    fh.write(body if not body or body.endswith("\n") else body + "\n")
+    else:
+        import io
+
+        import pandas as pd
+
+        table = pd.concat([pd.read_csv(io.StringIO(t)) for t in texts], ignore_index=True)
+
+        def write(tmp: Path) -> None:
+            table.to_csv(tmp, index=False)
+    csv_path = atomic_write(out_dir / f"{SUMMARY}.csv", write)
     parquet_path = None
     try:
         import pyarrow  # noqa: F401
     except ImportError:
         pass
     else:
+        import pandas as pd
+
+        table = pd.read_csv(csv_path)
         target = out_dir / f"{SUMMARY}.parquet"
         parquet_path = atomic_write(target, lambda tmp: table.to_parquet(tmp, index=False))
     return csv_path, parquet_path
