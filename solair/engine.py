@@ -18,7 +18,6 @@ naive UTC, each label the **end** of the hour it covers; the global attribute
 from __future__ import annotations
 
 import os
-import warnings
 from collections.abc import Iterable
 
 import numpy as np
@@ -171,10 +170,7 @@ def _clear_sky_ghi(geom: sun.HourlySunGeometry, site, pressure: float) -> np.nda
        formulation for the Linke turbidity coefficient. Solar Energy 73(3),
        151-157. :doi:`10.1016/S0038-092X(02)00045-2`
     """
-    times = pd.DatetimeIndex(geom.time).tz_localize("UTC")
-    with warnings.catch_warnings():  # pvlib 0.16 uses a pandas attribute deprecated in pandas 3
-        warnings.filterwarnings("ignore", message=".*dayofyear is deprecated")
-        linke = pvlib.clearsky.lookup_linke_turbidity(times, site.latitude, site.longitude)
+    linke = sun.linke_turbidity(geom.time, site.latitude, site.longitude)
     with np.errstate(invalid="ignore"):
         am_rel = pvlib.atmosphere.get_relative_airmass(geom.apparent_zenith)
     am_abs = pvlib.atmosphere.get_absolute_airmass(am_rel, pressure)
@@ -307,11 +303,14 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
     )
     beam_lost = int(np.sum((get["dni"] > 0.0) & (zen >= 90.0)))
 
-    # sky
-    ghi_clear = _clear_sky_ghi(geom, site, float(np.mean(p)))
-    cloud = _sky.cloud_fraction_from_irradiance(get["ghi"], ghi_clear, solar_zenith=zen)
+    # sky; the irradiance cloud estimate only where some hour has neither infrared nor cover
     ir = _column(df, "ghi_infrared")
     cover = _column(df, "opaque_sky_cover")
+    cloud = None
+    if _sky.cloud_fraction_needed(sky_model, ta, ghi_infrared=ir, opaque_sky_cover=cover,
+                                  spread=sky_spread):
+        ghi_clear = _clear_sky_ghi(geom, site, float(np.mean(p)))
+        cloud = _sky.cloud_fraction_from_irradiance(get["ghi"], ghi_clear, solar_zenith=zen)
     temp_sky, source = _sky.get_sky_temperature(
         ta, get["temp_dew"], p, model=sky_model, ghi_infrared=ir, opaque_sky_cover=cover,
         cloud_fraction=cloud, solar_hour=geom.solar_hour,

@@ -42,8 +42,8 @@ __all__ = [
     "emissivity_prata", "emissivity_dilley_obrien", "emissivity_li_jiang_coimbra",
     "clear_sky_emissivity", "cloud_factor_clark_allen", "cloud_emissivity_martin_berdahl",
     "cloud_emissivity_crawford_duchon", "temp_sky_from_emissivity", "temp_sky_from_infrared",
-    "infrared_is_valid", "cloud_fraction_from_irradiance", "get_sky_temperature",
-    "sky_temperature_all_models",
+    "infrared_is_valid", "cloud_fraction_from_irradiance", "cloud_fraction_needed",
+    "get_sky_temperature", "sky_temperature_all_models",
 ]
 
 Array = NDArray[np.float64]
@@ -480,6 +480,26 @@ def cloud_fraction_from_irradiance(
         return np.full(g.shape, float(fill_value))
     idx = np.arange(g.size)
     return np.interp(idx, idx[day], np.clip(1.0 - g[day] / gc[day], 0.0, 1.0))
+
+
+def cloud_fraction_needed(model: str, temp_air: ArrayLike, *,
+                          ghi_infrared: ArrayLike | None = None,
+                          opaque_sky_cover: ArrayLike | None = None, spread: bool = False) -> bool:
+    """Whether any hour's sky temperature would come from the irradiance cloud fraction.
+
+    It is used only in hours with neither a finite sky cover nor (models "auto",
+    "infrared") a valid file infrared; with ``spread`` (:func:`sky_temperature_all_models`)
+    in hours without sky cover. If False, ``cloud_fraction=None`` gives the same result.
+    """
+    ta = np.asarray(temp_air, dtype=float)
+    uncovered = np.ones(ta.shape, dtype=bool)
+    if opaque_sky_cover is not None:
+        uncovered = ~np.isfinite(np.asarray(opaque_sky_cover, dtype=float))
+    if spread and uncovered.any():
+        return True
+    if model in ("auto", "infrared") and ghi_infrared is not None:
+        uncovered = uncovered & ~infrared_is_valid(ghi_infrared, ta)
+    return bool(uncovered.any())
 
 
 def _sky_emissivity_corrected(eps_clear, opaque_sky_cover, cloud_fraction):

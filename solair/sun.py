@@ -8,9 +8,9 @@ Three jobs, each done once per weather file:
   file whose rows are labelled by the **end** of the hour they cover: the
   middle of the hour, or the middle of the *sunlit part* of the hours that
   contain sunrise or sunset.
-* :func:`plane_of_array` -- the total irradiance on every surface in one
-  :func:`pvlib.irradiance.get_total_irradiance` call (numpy broadcasting of
-  surfaces of shape ``(n_surfaces, 1)`` against hours of shape ``(n_hours,)``).
+* :func:`plane_of_array` -- the total irradiance on every surface from
+  pvlib's transposition functions (numpy broadcasting of hours of shape
+  ``(n_hours, 1)`` against surfaces of shape ``(n_surfaces,)``).
 
 Angles in degrees; azimuths in pvlib's convention (clockwise from north:
 N = 0, E = 90, S = 180, W = 270); irradiance in [W m-2].
@@ -34,6 +34,9 @@ References
 
 from __future__ import annotations
 
+import calendar
+import functools
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -52,6 +55,7 @@ __all__ = [
     "hourly_sun_geometry",
     "plane_of_array",
     "check_transposition_model",
+    "linke_turbidity",
 ]
 
 #: Ground reflectance used where the weather file has none [-].
@@ -93,6 +97,29 @@ def _unixtime(times) -> np.ndarray:
     return idx.as_unit("ns").asi8.astype(np.float64) / 1e9
 
 
+@functools.lru_cache(maxsize=64)
+def _spa_node_spline(lo: float, hi: float, delta_t: float):
+    """Cubic spline of the time-only SPA terms at nodes ``lo``..``hi`` days since 1970.
+
+    α, δ, R and Δψ cos ε do not depend on the site (pvlib's ``sst=True`` and
+    ``esd=True`` paths return before the site enters), so one table serves every
+    file of the same days (a portfolio's files all lie on the reference year) and
+    is kept per process.
+    """
+    from scipy.interpolate import CubicSpline
+
+    nodes = np.arange(lo, hi + 1) * _NODE_STEP
+    args = (0.0, 0.0, 0.0, 1013.25, 12.0, delta_t, _ATMOS_REFRACT)  # site: not used
+    v_n, alpha_n, delta_n = spa.solar_position(nodes, *args, numthreads=1, sst=True)
+    (r_n,) = spa.solar_position(nodes, *args, numthreads=1, esd=True)
+    jd_n = spa.julian_day(nodes)
+    nut_n = v_n - spa.mean_sidereal_time(jd_n, spa.julian_century(jd_n))
+    nut_n = (nut_n + 180.0) % 360.0 - 180.0  # Δψ cos ε, a few 1e-3 deg
+    alpha_u = np.rad2deg(np.unwrap(np.deg2rad(alpha_n)))
+    table = np.stack([nut_n, alpha_u, delta_n, r_n], axis=-1)
+    return CubicSpline(nodes, table, axis=0), (nodes[0], nodes[-1])
+
+
 class _SpaNodes:
     """NREL SPA with the time-only terms interpolated from nodes 24 h apart.
 
@@ -114,28 +141,15 @@ class _SpaNodes:
 
     def __init__(self, ut_min, ut_max, latitude, longitude, altitude, pressure_hpa,
                  temperature, delta_t):
-        from scipy.interpolate import CubicSpline
-
         lo = np.floor(ut_min / _NODE_STEP) - 2
         hi = np.ceil(ut_max / _NODE_STEP) + 2
-        nodes = np.arange(lo, hi + 1) * _NODE_STEP
-        args = (latitude, longitude, altitude, pressure_hpa, temperature, delta_t,
-                _ATMOS_REFRACT)
-        v_n, alpha_n, delta_n = spa.solar_position(nodes, *args, numthreads=1, sst=True)
-        (r_n,) = spa.solar_position(nodes, *args, numthreads=1, esd=True)
-        jd_n = spa.julian_day(nodes)
-        nut_n = v_n - spa.mean_sidereal_time(jd_n, spa.julian_century(jd_n))
-        nut_n = (nut_n + 180.0) % 360.0 - 180.0  # Δψ cos ε, a few 1e-3 deg
-        alpha_u = np.rad2deg(np.unwrap(np.deg2rad(alpha_n)))
-        table = np.stack([nut_n, alpha_u, delta_n, r_n], axis=-1)
-        self._spline = CubicSpline(nodes, table, axis=0)
-        self._span = (nodes[0], nodes[-1])
+        self._spline, self._span = _spa_node_spline(float(lo), float(hi), float(delta_t))
         self._site = (latitude, longitude, altitude, pressure_hpa, temperature)
 
     def covers(self, ut) -> bool:
         return bool(ut.min() >= self._span[0] and ut.max() <= self._span[1])
 
-    def __call__(self, ut):
+    def __call__(self, ut, zenith_only: bool = False):
         latitude, longitude, altitude, pressure_hpa, temperature = self._site
         nut, alpha, delta, radius = self._spline(ut).T
         jd = spa.julian_day(ut)
@@ -154,6 +168,8 @@ class _SpaNodes:
             pressure_hpa, temperature, e0, _ATMOS_REFRACT
         )
         e = spa.topocentric_elevation_angle(e0, delta_e)
+        if zenith_only:  # the sunrise/sunset search needs the apparent zenith only
+            return 90.0 - e
         gamma = spa.topocentric_astronomers_azimuth(h_prime, delta_prime, latitude)
         azimuth = spa.topocentric_azimuth_angle(gamma)
         return 90.0 - e, 90.0 - e0, azimuth, hour_angle
@@ -240,9 +256,11 @@ def solar_position(
         sp = pvlib.solarposition.ephemeris(
             idx, latitude, longitude, pressure=pressure, temperature=temperature
         )
-        app_zen = sp["apparent_zenith"].to_numpy()
-        zen = sp["zenith"].to_numpy()
-        azi = sp["azimuth"].to_numpy()
+        # copies: pandas' copy-on-write hands out read-only views, and the
+        # sunrise/sunset hours are written into these arrays afterwards
+        app_zen = sp["apparent_zenith"].to_numpy(dtype=float, copy=True)
+        zen = sp["zenith"].to_numpy(dtype=float, copy=True)
+        azi = sp["azimuth"].to_numpy(dtype=float, copy=True)
         ha = (sp["solar_time"].to_numpy() - 12.0) * 15.0
     ha = (np.asarray(ha, dtype=float) + 180.0) % 360.0 - 180.0
     return {
@@ -337,9 +355,12 @@ def hourly_sun_geometry(
     cand = np.flatnonzero(np.abs(pos["apparent_zenith"] - 90.0) < _CANDIDATE_BAND)
     if cand.size:
         m = cand.size
-        ends = solar_position(np.concatenate([ut_start[cand], ut_end[cand]]), **kw)
-        f_start = 90.0 - ends["apparent_zenith"][:m]  # apparent elevation
-        f_end = 90.0 - ends["apparent_zenith"][m:]
+        # each instant once: consecutive candidate hours share their boundary
+        bounds, inv = np.unique(np.concatenate([ut_start[cand], ut_end[cand]]),
+                                return_inverse=True)
+        ends = _apparent_zenith(bounds, kw)[inv]
+        f_start = 90.0 - ends[:m]  # apparent elevation
+        f_end = 90.0 - ends[m:]
         is_cross = (f_start > 0.0) != (f_end > 0.0)
         idx = cand[is_cross]
         if idx.size:
@@ -371,6 +392,14 @@ def hourly_sun_geometry(
     )
 
 
+def _apparent_zenith(ut: np.ndarray, kw: dict) -> np.ndarray:
+    """Apparent zenith [deg] only, as :func:`solar_position` gives it with ``kw``."""
+    interp = kw.get("_interp")
+    if kw["method"] == "spa_nodes" and interp is not None and interp.covers(ut):
+        return np.asarray(interp(ut, zenith_only=True), dtype=float)
+    return solar_position(ut, **kw)["apparent_zenith"]
+
+
 def _horizon_crossing(t_lo, t_hi, f_lo, f_hi, kw):
     """Instant where the apparent elevation f(t) crosses 0 inside [t_lo, t_hi].
 
@@ -385,7 +414,7 @@ def _horizon_crossing(t_lo, t_hi, f_lo, f_hi, kw):
     t = 0.5 * (t_lo + t_hi)
     for _ in range(_ROOT_STEPS):
         t = (t_lo * f_hi - t_hi * f_lo) / (f_hi - f_lo)
-        f = 90.0 - solar_position(t, **kw)["apparent_zenith"]
+        f = 90.0 - _apparent_zenith(t, kw)
         same_lo = (f > 0.0) == (f_lo > 0.0)
         # move the end on f's side to t; halve the other end's f if it stays twice
         f_hi = np.where(same_lo & (side == -1), 0.5 * f_hi, f_hi)
@@ -396,6 +425,53 @@ def _horizon_crossing(t_lo, t_hi, f_lo, f_hi, kw):
         f_hi = np.where(same_lo, f_hi, f)
         side = np.where(same_lo, -1, 1)
     return t
+
+
+def _month_middles(days_in_year: int) -> np.ndarray:
+    """Day of year of each month's middle, with December before and January after."""
+    mdays = np.array(calendar.mdays[1:], dtype=float)
+    mdays[1] += days_in_year - 365
+    return np.concatenate([[-15.5], np.cumsum(mdays) - mdays / 2.0, [days_in_year + 15.5]])
+
+
+@functools.lru_cache(maxsize=256)
+def _linke_monthly(latitude: float, longitude: float) -> np.ndarray:
+    """The 12 monthly values x 20 (integers as stored) of pvlib's Linke turbidity file."""
+    mid = pd.DatetimeIndex([f"2001-{m:02d}-15" for m in range(1, 13)], tz="UTC")
+    with warnings.catch_warnings():  # pvlib 0.16 uses a pandas attribute deprecated in pandas 3
+        warnings.filterwarnings("ignore", message=".*dayofyear is deprecated")
+        lt = pvlib.clearsky.lookup_linke_turbidity(mid, latitude, longitude,
+                                                   interp_turbidity=False)
+    out = np.round(np.asarray(lt, dtype=float) * 20.0)  # x/20*20 rounds back to x exactly
+    out.flags.writeable = False
+    return out
+
+
+def linke_turbidity(time_utc: np.ndarray, latitude: float, longitude: float) -> np.ndarray:
+    """Linke turbidity [-] of Remund et al. (2003) at naive-UTC ``datetime64`` instants.
+
+    The numbers of :func:`pvlib.clearsky.lookup_linke_turbidity` (monthly values
+    from pvlib's ``LinkeTurbidities.h5``, interpolated linearly on the UTC day of
+    year between mid-month days); the file is read once per process and site,
+    not on every call. Remund, J., Wald, L., Lefèvre, M., Ranchin, T. and Page,
+    J. (2003). Worldwide Linke turbidity information. Proc. ISES Solar World
+    Congress, Göteborg.
+    """
+    lts = _linke_monthly(float(latitude), float(longitude))
+    fp = np.concatenate([lts[-1:], lts, lts[:1]])
+    t = np.asarray(time_utc, dtype="datetime64[ns]")
+    years = t.astype("datetime64[Y]")
+    doy = (t.astype("datetime64[D]") - years.astype("datetime64[D]")).astype(np.int64) + 1
+    y = years.astype(np.int64) + 1970
+    leap = (y % 4 == 0) & ((y % 100 != 0) | (y % 400 == 0))
+    lt = np.where(leap, np.interp(doy, _month_middles(366), fp),
+                  np.interp(doy, _month_middles(365), fp))
+    return lt / 20.0
+
+
+def _isotropic(dhi: np.ndarray, tilt: np.ndarray) -> np.ndarray:
+    """Isotropic sky diffuse DHI (1 + cos β) / 2 [W m-2], hours (n, 1) x surfaces (m,)."""
+    return dhi * (1.0 + np.cos(np.radians(tilt))) / 2.0
 
 
 def plane_of_array(
@@ -412,15 +488,19 @@ def plane_of_array(
     dni_extra=None,
     airmass=None,
 ) -> dict[str, np.ndarray]:
-    """Total irradiance on every surface for every hour, in one pvlib call.
+    """Total irradiance on every surface for every hour, by pvlib's functions.
 
     The hourly arrays are reshaped to columns ``(n_hours, 1)`` and broadcast
-    against the surfaces ``(n_surfaces,)`` inside one
-    :func:`pvlib.irradiance.get_total_irradiance` call, which returns
-    ``(n_hours, n_surfaces)`` directly in the (time, surface) order of the
-    results (the transposed layout, surfaces ``(n_surfaces, 1)`` against hours
-    ``(n_hours,)``, gives identical numbers but needs a transposing copy).
-    Numpy arrays are passed (pvlib's Series branches do not broadcast).
+    against the surfaces ``(n_surfaces,)``, giving ``(n_hours, n_surfaces)``
+    directly in the (time, surface) order of the results; numpy arrays are
+    passed (pvlib's Series branches do not broadcast). The components are
+    pvlib's: :func:`pvlib.irradiance.get_ground_diffuse`, the beam
+    DNI·max(cos θ, 0) with cos θ from :func:`pvlib.irradiance.aoi_projection`,
+    and :func:`pvlib.irradiance.get_sky_diffuse`. These are evaluated only in
+    the hours where they can be non-zero (beam: DNI ≠ 0; Perez: air mass
+    defined), which halves the work of a year; the numbers are those of
+    :func:`pvlib.irradiance.get_total_irradiance` (the beam to ~1e-12 W m-2:
+    pvlib's goes through the angle, cos(arccos(cos θ))).
 
     Beam: where the sun is on or below the horizon (``solar_zenith >= 90``)
     the beam is set to zero -- it cannot be projected from there; the hour's
@@ -466,10 +546,11 @@ def plane_of_array(
     check_transposition_model(model)
     tilt = np.asarray(surface_tilt, dtype=float).reshape(-1)
     azim = np.asarray(surface_azimuth, dtype=float).reshape(-1)
+    n = np.asarray(solar_zenith).size
+    shape = (n, tilt.size)
 
-    def col(x):  # hourly values as a column (n_hours, 1); scalars stay scalars
-        x = np.asarray(x, dtype=float)
-        return x.reshape(-1, 1) if x.ndim else x
+    def col(x):  # hourly values as a column (n_hours, 1)
+        return np.broadcast_to(np.asarray(x, dtype=float).reshape(-1, 1), (n, 1))
 
     zen, sazi, dhi, ghi = col(solar_zenith), col(solar_azimuth), col(dhi), col(ghi)
     sun_up = zen < 90.0
@@ -483,30 +564,50 @@ def plane_of_array(
         if airmass is None:
             raise ConfigurationError("transposition model 'perez' needs airmass")
         kwargs["airmass"] = col(airmass)
+    # pvlib's functions on the hours where they can give anything but 0: the beam
+    # where DNI != 0 (it is 0 with the sun down), Perez where the air mass is defined
+    # (pvlib's Perez is 0 elsewhere); one angle-of-incidence projection for the beam
+    # (pvlib's poa_components takes the angle and would take its cosine again)
     with np.errstate(invalid="ignore", divide="ignore"):
-        irr = pvlib.irradiance.get_total_irradiance(
-            tilt, azim, zen, sazi, dni, ghi, dhi, albedo=col(albedo), model=model, **kwargs
-        )
-    shape = (zen.shape[0], tilt.size)
-    sky = np.broadcast_to(np.asarray(irr["poa_sky_diffuse"], dtype=float), shape)
-    ground = np.broadcast_to(np.asarray(irr["poa_ground_diffuse"], dtype=float), shape)
-    direct = np.broadcast_to(np.asarray(irr["poa_direct"], dtype=float), shape)
-    bad = ~np.isfinite(sky)
+        ground = pvlib.irradiance.get_ground_diffuse(tilt, ghi, col(albedo))
+        ground = np.ascontiguousarray(np.broadcast_to(np.asarray(ground, dtype=float), shape))
+        rows = np.flatnonzero(dni[:, 0] != 0.0)
+        beam = dni[rows] * pvlib.irradiance.aoi_projection(tilt, azim, zen[rows], sazi[rows])
+        beam = np.maximum(beam, 0.0)
+        beam[~np.isfinite(beam)] = 0.0
+        direct = np.zeros(shape)
+        direct[rows] = beam
+        if model == "perez":
+            rows = sun_up[:, 0] | np.isfinite(kwargs["airmass"][:, 0])
+        else:
+            rows = np.ones(n, dtype=bool)
+        sub = np.flatnonzero(rows)
+        sky_rows = np.broadcast_to(pvlib.irradiance.get_sky_diffuse(
+            tilt, azim, zen[sub], sazi[sub], dni[sub], ghi[sub], dhi[sub],
+            model=model, **{k: v[sub] for k, v in kwargs.items()},
+        ), (sub.size, tilt.size))
+    # isotropic sky diffuse where the model's is undefined (see above)
+    bad = ~np.isfinite(sky_rows)
     if model == "perez":
-        bad = bad | (~sun_up & (dhi > 0.0))
-    replaced = bad.any(axis=1)
-    fallback_hours = int(replaced.sum())
-    fallback_with_diffuse = int((replaced & (dhi[:, 0] > 0.0)).sum())
-    if fallback_hours:
-        isotropic = dhi * (1.0 + np.cos(np.radians(tilt))) / 2.0
-        sky = np.where(bad, isotropic, sky)
-    direct = np.where(np.isfinite(direct), direct, 0.0)
+        bad = bad | (~sun_up[sub] & (dhi[sub] > 0.0))
+    sky = np.zeros(shape)
+    sky[sub] = sky_rows
+    row_bad = bad.any(axis=1)
+    fix = sub[row_bad]
+    if fix.size:
+        sky[fix] = np.where(bad[row_bad], _isotropic(dhi[fix], tilt), sky[fix])
+    out = np.flatnonzero(~rows & ~sun_up[:, 0] & (dhi[:, 0] > 0.0))  # Perez, sun down
+    if out.size:
+        sky[out] = _isotropic(dhi[out], tilt)
+    fix = np.concatenate([fix, out])
+    fallback_hours = int(fix.size)
+    fallback_with_diffuse = int(np.count_nonzero(dhi[fix, 0] > 0.0))
     total = direct + sky + ground
     return {
         "poa_global": total,
         "poa_direct": direct,
-        "poa_sky_diffuse": np.ascontiguousarray(sky),
-        "poa_ground_diffuse": np.ascontiguousarray(ground),
+        "poa_sky_diffuse": sky,
+        "poa_ground_diffuse": ground,
         "sky_diffuse_fallback_hours": fallback_hours,
         "sky_diffuse_fallback_hours_with_diffuse": fallback_with_diffuse,
     }

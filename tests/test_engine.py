@@ -280,3 +280,30 @@ def test_parse_surface_errors_and_compass_points():
         parse_surface("w,90")
     with pytest.raises(ConfigurationError, match="non-empty"):
         parse_surface(" ,90,0")
+
+
+def test_clear_sky_estimate_skipped_when_no_hour_needs_it(greensboro_weather, monkeypatch):
+    # Greensboro TMY3 has the opaque sky cover in every hour, so no hour's sky temperature
+    # comes from the irradiance cloud estimate (Crawford & Duchon 1999, against the Ineichen
+    # clear sky): the engine skips the clear-sky GHI. Forcing the estimate to be computed
+    # must change nothing.
+    s = [Surface("roof", 0, 180)]
+    calls = []
+    real = engine._clear_sky_ghi
+    monkeypatch.setattr(engine, "_clear_sky_ghi", lambda *a: calls.append(1) or real(*a))
+    for kw in (dict(), dict(sky="brunt", sky_spread=True)):
+        skipped = engine.exterior_forcing(greensboro_weather, s, **kw)
+        assert not calls
+        with monkeypatch.context() as m:
+            m.setattr(engine._sky, "cloud_fraction_needed", lambda *a, **k: True)
+            computed = engine.exterior_forcing(greensboro_weather, s, **kw)
+        assert calls
+        calls.clear()
+        for v in ("temp_sky", "sky_source", *(("temp_sky_models",) if kw else ())):
+            np.testing.assert_array_equal(skipped[v].values, computed[v].values)
+        assert skipped.attrs == computed.attrs
+    # without the sky cover the estimate is needed and used
+    w = type(greensboro_weather)(greensboro_weather.site,
+                                 greensboro_weather.data.drop(columns=["opaque_sky_cover"]))
+    ds = engine.exterior_forcing(w, s)
+    assert calls and ds.attrs["sky_source_hours_irradiance_cloud_estimate"] == 8760

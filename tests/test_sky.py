@@ -323,3 +323,33 @@ def test_infrared_model_falls_back_hour_by_hour():
                                         opaque_sky_cover=np.array([np.nan, 3.0, np.nan]))
     assert src.tolist() == [0, 1, 3]
     assert_allclose(tsky[0], 0.8**0.25 * 288.15 - 273.15, atol=1e-9)
+
+
+def test_cloud_fraction_needed_only_where_no_better_source():
+    # The irradiance cloud estimate (Crawford & Duchon 1999) is the third source of "auto":
+    # it is needed only in hours with neither valid infrared nor sky cover. Where it is not
+    # needed, leaving it out gives the same temperatures and sources as passing it.
+    ta = np.array([10.0, 12.0, 8.0, 5.0])
+    td = np.array([2.0, 5.0, 6.0, 0.0])
+    black = SIGMA * (ta + 273.15) ** 4
+    ir_ok = 0.8 * black
+    ir_gap = ir_ok.copy()
+    ir_gap[2] = np.nan
+    cover = np.array([3.0, 8.0, np.nan, 0.0])
+    cloud = np.array([0.1, 0.5, 0.9, 0.3])
+    need = sky.cloud_fraction_needed
+    assert not need("auto", ta, ghi_infrared=ir_ok)
+    assert not need("auto", ta, ghi_infrared=ir_gap, opaque_sky_cover=np.full(4, 5.0))
+    assert need("auto", ta, ghi_infrared=ir_gap, opaque_sky_cover=cover)
+    assert need("auto", ta)
+    assert need("brunt", ta, ghi_infrared=ir_ok)  # a correlation name ignores the infrared
+    assert not need("brunt", ta, opaque_sky_cover=np.full(4, 5.0))
+    assert need("auto", ta, ghi_infrared=ir_ok, opaque_sky_cover=cover, spread=True)
+    for model, kw in [("auto", dict(ghi_infrared=ir_ok)),
+                      ("infrared", dict(ghi_infrared=ir_gap, opaque_sky_cover=np.full(4, 5.0))),
+                      ("brunt", dict(opaque_sky_cover=np.full(4, 5.0)))]:
+        assert not need(model, ta, **kw)
+        with_c = sky.get_sky_temperature(ta, td, model=model, cloud_fraction=cloud, **kw)
+        without = sky.get_sky_temperature(ta, td, model=model, **kw)
+        np.testing.assert_array_equal(with_c[0], without[0])
+        np.testing.assert_array_equal(with_c[1], without[1])
