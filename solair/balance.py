@@ -32,6 +32,9 @@ References
 
 from __future__ import annotations
 
+import functools
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
@@ -121,40 +124,6 @@ def surface_balance_residual(
     return a * g + hc * (ta_k - ts) + lw
 
 
-def _newton_surface(q0, hc, esf, t0, tol, max_iter, shape):
-    """Solve q0 - hc T - esf T^4 = 0 for T [K] by vectorised Newton (global for T > 0)."""
-    t = np.broadcast_to(np.maximum(t0, 1.0), shape).copy()
-    # full-shape contiguous operands: numpy's inner loops then run over the whole array
-    # instead of over a size-4 finish axis broadcast against a time x surface one
-    hc = np.array(np.broadcast_to(hc, shape), dtype=float)
-    esf = np.array(np.broadcast_to(esf, shape), dtype=float)
-    q0 = np.array(np.broadcast_to(q0, shape), dtype=float)
-    step = np.empty(shape)
-    den = np.empty(shape)
-    for _ in range(max_iter):
-        np.multiply(t, t, out=step)
-        step *= t
-        step *= esf  # esf T^3
-        np.multiply(step, 4.0, out=den)
-        den += hc  # derivative of hc T + esf T^4
-        step += hc
-        step *= t  # hc T + esf T^4
-        np.subtract(q0, step, out=step)
-        step /= den
-        t += step
-        largest = max(np.max(step), -np.min(step))
-        if largest <= tol:
-            return t
-        if not np.isfinite(largest):  # hc + 4 esf T^3 = 0 somewhere: nothing to balance
-            raise ConfigurationError(
-                "h_conv and emissivity x view factors are all zero for some element: "
-                "the surface exchanges no heat (h_e = 0)")
-    raise ConfigurationError(
-        f"surface balance did not converge to {tol:g} K in {max_iter} Newton steps "
-        f"(largest last step {largest:.3g} K); check the inputs' magnitudes"
-    )
-
-
 def temp_sol_air(
     temp_air: ArrayLike,
     poa_global: ArrayLike,
@@ -188,14 +157,17 @@ def temp_sol_air(
       :math:`h_e (T_{eq} - T_a)` equals the net exchange of a surface at T_a.
     * ``linearisation="surface"``: :math:`T_{ref}` is the massless adiabatic
       surface temperature, the root of :func:`surface_balance_residual`, found
-      by vectorised Newton iteration on the exact quartic to ``tol`` K (the
-      residual is concave and decreasing in T_s, so Newton converges from any
-      positive start); then :math:`T_{eq} = T_{ref}`, ASTM E1980's surface
-      temperature.
+      element by element by Newton iteration on the exact quartic to ``tol`` K,
+      starting from the "air" solution (the residual is concave and decreasing
+      in T_s, so Newton converges from any positive start); then
+      :math:`T_{eq} = T_{ref}`, ASTM E1980's surface temperature.
     * ``conventional=True``: ISO 6946's conventional R_se = 0.04 m2 K W-1, i.e.
       h_e fixed at 25 W m-2 K-1 and h_c = 25 - Σ h_r,x (the given ``h_conv`` is
       not used); with "surface" the h_r,x are evaluated at the solution by
       fixed-point iteration.
+
+    Without ``conventional`` one compiled loop (numba) computes every output
+    element in a single pass over the broadcast inputs.
 
     Parameters
     ----------
@@ -231,13 +203,14 @@ def temp_sol_air(
     dict of ndarray, all broadcast to a common shape
         ``temp_sol_air`` [°C], ``h_rad`` (Σ h_r,x), ``h_rad_sky``, ``h_rad_air``,
         ``h_rad_ground`` (with ``components``), ``h_e``, ``h_conv`` [W m-2 K-1] and
-        ``r_se`` [m2 K W-1].
+        ``r_se`` [m2 K W-1]; every value finite (callers need no second check).
 
     Raises
     ------
     ConfigurationError
         Unknown linearisation, non-finite or out-of-range inputs, h_e ≤ 0, a
-        conventional h_rad above 25, or no convergence.
+        conventional h_rad above 25, no convergence, or a T_eq that overflows
+        (α G too large to be represented).
 
     References
     ----------
@@ -253,47 +226,40 @@ def temp_sol_air(
         temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
         view_sky, view_air, view_ground)
     shape = np.broadcast_shapes(*(x.shape for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)))
-    # Work at the inputs' own shapes and let numpy broadcast: the temperature factors of the
-    # coefficients depend on time only, the optical factors on surface (and finish) only.
+    if not conventional:
+        return _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter,
+                                 shape, linearisation == "surface", components)
+    # Conventional R_se: work at the inputs' own shapes and let numpy broadcast (the
+    # temperature factors depend on time only, the optical factors on surface and finish).
     ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
     ag = a * g
     efs, efa, efg = e * fs, e * fa, e * fg
     d_sky, d_gnd = tsky - ta, tg - ta
 
     def coefficients(t_ref_k):
-        """Secant h_r,x about T_ref [K] (the algebra of longwave.h_rad_secant)."""
-        t2 = t_ref_k * t_ref_k
-        return tuple(ef * (sigma * (tx * tx + t2) * (tx + t_ref_k))
-                     for ef, tx in ((efs, tsky_k), (efa, ta_k), (efg, tg_k)))
+        return _secant(efs, efa, efg, tsky_k, ta_k, tg_k, t_ref_k, sigma)
 
-    if conventional:
-        # h_e fixed: T = T_a + (alpha G + h_sky (T_sky - T_a) + h_gnd (T_gnd - T_a)) / 25
-        t_ref_k = ta_k
-        for _ in range(max_iter):
+    # h_e fixed: T = T_a + (alpha G + h_sky (T_sky - T_a) + h_gnd (T_gnd - T_a)) / 25
+    t_ref_k = ta_k
+    for _ in range(max_iter):
+        hs, ha, hg = coefficients(t_ref_k)
+        if linearisation == "air":
+            break
+        t_new_k = ta_k + (ag + hs * d_sky + hg * d_gnd) / H_E_CONVENTIONAL
+        step = np.max(np.abs(t_new_k - t_ref_k), initial=0.0)
+        t_ref_k = t_new_k
+        if step <= tol:
             hs, ha, hg = coefficients(t_ref_k)
-            if linearisation == "air":
-                break
-            t_new_k = ta_k + (ag + hs * d_sky + hg * d_gnd) / H_E_CONVENTIONAL
-            step = np.max(np.abs(t_new_k - t_ref_k), initial=0.0)
-            t_ref_k = t_new_k
-            if step <= tol:
-                hs, ha, hg = coefficients(t_ref_k)
-                break
-        else:
-            raise ConfigurationError(
-                f"conventional surface balance did not converge to {tol:g} K in {max_iter} steps")
-        h_rad = hs + ha + hg
-        if np.any(h_rad >= H_E_CONVENTIONAL):
-            raise ConfigurationError(
-                f"conventional R_se: h_rad up to {np.max(h_rad):.3g} W m-2 K-1 leaves no room "
-                f"for convection within h_e = {H_E_CONVENTIONAL:g}")
-        hc = H_E_CONVENTIONAL - h_rad
-    elif linearisation == "air":
-        hs, ha, hg = coefficients(ta_k)
+            break
     else:
-        return _surface_solution(ta, ta_k, tsky_k, tg_k, d_sky, d_gnd, ag, e, fs, fa, fg, hc,
-                                 sigma, tol, max_iter, shape, coefficients, components)
+        raise ConfigurationError(
+            f"conventional surface balance did not converge to {tol:g} K in {max_iter} steps")
     h_rad = hs + ha + hg
+    if np.any(h_rad >= H_E_CONVENTIONAL):
+        raise ConfigurationError(
+            f"conventional R_se: h_rad up to {np.max(h_rad):.3g} W m-2 K-1 leaves no room "
+            f"for convection within h_e = {H_E_CONVENTIONAL:g}")
+    hc = H_E_CONVENTIONAL - h_rad
     h_e = h_rad + hc
     if np.min(h_e) < H_E_MIN:
         raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
@@ -303,21 +269,105 @@ def temp_sol_air(
     t_eq += ag
     t_eq /= h_e
     t_eq += ta
+    if t_eq.size and not (np.isfinite(np.min(t_eq)) and np.isfinite(np.max(t_eq))):
+        raise _overflow_error(tuple(int(i) for i in np.argwhere(~np.isfinite(t_eq))[0]))
     out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_e": h_e, "h_conv": hc, "r_se": 1.0 / h_e}
     if components:
         out.update(h_rad_sky=hs, h_rad_air=ha, h_rad_ground=hg)
     return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}
 
 
-def _surface_solution(ta, ta_k, tsky_k, tg_k, d_sky, d_gnd, ag, e, fs, fa, fg, hc, sigma,
-                      tol, max_iter, shape, coefficients, components):
-    """The ``linearisation="surface"`` branch of :func:`temp_sol_air`.
+def _secant(efs, efa, efg, tsky_k, ta_k, tg_k, t_ref_k, sigma):
+    """Secant h_r,x about T_ref [K] (the algebra of longwave.h_rad_secant), ef_x = ε F_x."""
+    t2 = t_ref_k * t_ref_k
+    return tuple(ef * (sigma * (tx * tx + t2) * (tx + t_ref_k))
+                 for ef, tx in ((efs, tsky_k), (efa, ta_k), (efg, tg_k)))
 
-    Every long-wave term is ε F_x g(T_x), so the emissivity factors out of the sum over
-    x: the sums over sky, air and ground are formed at the weather's and geometry's own
-    (time, surface) shape and multiplied by ε once, instead of once per term at the full
-    (time, surface, finish) shape. At the root T of the balance the secant coefficients
-    sum to
+
+def _overflow_error(at: tuple[int, ...]) -> ConfigurationError:
+    return ConfigurationError(
+        f"the sol-air temperature overflows at element {at}: alpha x poa_global is too large "
+        "for float64 against h_e; give irradiances of physical magnitude [W m-2]")
+
+
+def _canonical_shape(shape: tuple[int, ...]) -> tuple[int, int, int]:
+    """The 3-D shape a kernel loops over: leading size-1 axes added, or leading axes merged."""
+    if len(shape) <= 3:
+        return (1,) * (3 - len(shape)) + tuple(shape)
+    return (int(np.prod(shape[:-2])), shape[-2], shape[-1])
+
+
+def _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, shape,
+                      surface, components):
+    """:func:`temp_sol_air` without ``conventional``, by one compiled pass (:func:`_balance_loop`).
+
+    The ten checked inputs are broadcast (read-only views, no copies up to 3-D) to a
+    canonical 3-D shape (:func:`_canonical_shape`); the kernel writes C-contiguous outputs
+    that are reshaped back to ``shape``. Every call uses the one compiled specialisation of
+    :func:`_balance_kernel`.
+    """
+    canon = _canonical_shape(shape)
+    args = [np.broadcast_to(x, shape).reshape(canon)
+            for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)]
+    t, h_rad, h_e, r_se = (np.empty(canon) for _ in range(4))
+    status, largest, where = _balance_kernel()(*args, float(sigma), float(tol), int(max_iter),
+                                               bool(surface), t, h_rad, h_e, r_se)
+    if status == _NO_EXCHANGE:
+        at = tuple(int(i) for i in np.unravel_index(where, shape)) if shape else ()
+        raise ConfigurationError(
+            f"h_e = h_conv + h_rad is below {H_E_MIN:g} W m-2 K-1 at element {at}: h_conv and "
+            "emissivity x view factors are all zero there, so the surface exchanges no heat; "
+            "give h_conv > 0, or emissivity > 0 with a non-zero view factor")
+    if status == _NOT_FINITE:
+        raise _overflow_error(tuple(int(i) for i in np.unravel_index(where, shape)))
+    if status == _NOT_CONVERGED:
+        raise ConfigurationError(
+            f"surface balance did not converge to {tol:g} K in {max_iter} Newton steps "
+            f"(largest last step {largest:.3g} K); check the inputs' magnitudes"
+        )
+    out = {k: np.broadcast_to(v.reshape(np.shape(v) if v is hc else shape), shape)
+           for k, v in (("temp_sol_air", t), ("h_rad", h_rad), ("h_e", h_e), ("h_conv", hc),
+                        ("r_se", r_se))}
+    if components:
+        t_ref_k = (out["temp_sol_air"] if surface else ta) + KELVIN
+        hs, ha, hg = _secant(e * fs, e * fa, e * fg, tsky + KELVIN, ta + KELVIN, tg + KELVIN,
+                             t_ref_k, sigma)
+        out.update({k: np.broadcast_to(v, shape) for k, v in
+                    (("h_rad_sky", hs), ("h_rad_air", ha), ("h_rad_ground", hg))})
+    return out
+
+
+#: Status codes of :func:`_balance_loop`.
+_OK, _NO_EXCHANGE, _NOT_CONVERGED, _NOT_FINITE = 0, 1, 2, 3
+
+
+def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, surface,
+                  t_out, h_rad_out, h_e_out, r_se_out):
+    """T_eq, h_rad, h_e and R_se element by element (compiled by numba).
+
+    Each element first gets the air-linearised solution from the secant coefficients
+    :math:`h_{r,x}` about T_a (the operations of :func:`_secant` and of the T_eq of the
+    conventional branch of :func:`temp_sol_air`, in the same order, so the "air" results
+    equal the former numpy ones to the last bit):
+
+    .. math::
+
+        T_{eq} = T_a + \\frac{h_{r,sky} (T_{sky} - T_a) + h_{r,gnd} (T_{gnd} - T_a)
+                 + \\alpha G}{h_c + \\sum_x h_{r,x}}
+
+    With ``surface`` that is the start of Newton's iteration on the exact balance
+    (:func:`surface_balance_residual` = 0), in which the emissivity factors out of the
+    sum over x ∈ {sky, air, gnd}:
+
+    .. math::
+
+        q_0 = h_c T + \\varepsilon\\sigma F T^4, \\qquad
+        q_0 = \\alpha G + h_c T_a + \\varepsilon\\sigma \\sum_x F_x T_x^4, \\qquad
+        F = \\sum_x F_x
+
+    (temperatures in K). The right side is convex and increasing in T > 0, so Newton
+    converges from any positive start (monotonically after the first step); an element
+    stops once its step is at most ``tol`` [K]. At the root T the secant coefficients sum to
 
     .. math::
 
@@ -325,39 +375,101 @@ def _surface_solution(ta, ta_k, tsky_k, tg_k, d_sky, d_gnd, ag, e, fs, fa, fg, h
                 = \\varepsilon\\sigma (P_0 + P_1 T + P_2 T^2 + P_3 T^3),
         \\qquad P_k = \\sum_x F_x T_x^{3-k}
 
-    (one Horner pass at the full shape), and T_eq = T: the secant linearisation about the
-    root is exact there, so the equivalent temperature is the root itself, to the Newton
-    tolerance.
+    (Horner's scheme), and T_eq = T: the secant linearisation about the root is exact
+    there, so the equivalent temperature is the root itself, to the Newton tolerance.
+
+    Inputs are 3-D arrays of one shape (broadcast views) in °C, W m-2, W m-2 K-1 and [-];
+    ``t_out`` [°C], ``h_rad_out``, ``h_e_out`` [W m-2 K-1] and ``r_se_out`` [m2 K W-1]
+    are written in place. Returns ``(status, largest last step [K], flat index)``:
+    ``_NO_EXCHANGE`` at the first element whose h_e is below ``H_E_MIN``,
+    ``_NOT_CONVERGED`` with the largest last step of the elements that did not converge
+    in ``max_iter`` steps, ``_NOT_FINITE`` at the first element whose T_eq or Newton
+    step overflows, else ``_OK``.
     """
-    sig_e = sigma * e
-    esf = sig_e * (fs + fa + fg)
-    # q0 = alpha G + h_c T_a + eps sigma sum_x F_x T_x^4: the balance is q0 = h_c T + esf T^4
-    q0 = ag + hc * ta_k + sig_e * (fs * tsky_k**4 + fa * ta_k**4 + fg * tg_k**4)
-    # start: the air-linearised solution (coefficients at T_a, factored the same way)
-    a_sky = sigma * (tsky_k * tsky_k + ta_k * ta_k) * (tsky_k + ta_k)
-    a_gnd = sigma * (tg_k * tg_k + ta_k * ta_k) * (tg_k + ta_k)
-    a_air = 4.0 * sigma * ta_k**3
-    h_e_air = hc + e * (fs * a_sky + fa * a_air + fg * a_gnd)
-    if np.min(h_e_air) < H_E_MIN:
-        raise ConfigurationError(
-            "h_conv and emissivity x view factors are all zero for some element: "
-            "the surface exchanges no heat (h_e = 0)")
-    t0 = ta_k + (ag + e * (fs * a_sky * d_sky + fg * a_gnd * d_gnd)) / h_e_air
-    t = _newton_surface(q0, hc, esf, t0, tol, max_iter, shape)
-    h_rad = np.multiply(t, fs + fa + fg, out=np.empty(shape))  # Horner in T
-    h_rad += fs * tsky_k + fa * ta_k + fg * tg_k
-    h_rad *= t
-    h_rad += fs * tsky_k**2 + fa * ta_k**2 + fg * tg_k**2
-    h_rad *= t
-    h_rad += fs * tsky_k**3 + fa * ta_k**3 + fg * tg_k**3
-    h_rad *= sig_e
-    h_e = np.add(h_rad, hc, out=np.empty(shape))
-    if np.min(h_e) < H_E_MIN:
-        raise ConfigurationError("h_e = h_conv + h_rad is zero for some element: no heat exchange")
-    t -= KELVIN
-    out = {"temp_sol_air": t, "h_rad": h_rad, "h_e": h_e, "h_conv": hc,
-           "r_se": np.divide(1.0, h_e, out=np.empty(shape))}
-    if components:
-        hs, ha, hg = coefficients(t + KELVIN)
-        out.update(h_rad_sky=hs, h_rad_air=ha, h_rad_ground=hg)
-    return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}
+    n0, n1, n2 = t_out.shape
+    status = _OK
+    largest = 0.0
+    # The factors of the coefficients that depend on the temperatures and view factors only
+    # repeat along a trailing finish axis: they are recomputed only when those inputs change.
+    ta_c = tsky_c = tg_c = s = f_a = f_g = math.nan  # the previous element's
+    ta_k = f_sum = a_sky = a_air = a_gnd = l_4 = p_1 = p_2 = p_3 = 0.0
+    for i in range(n0):
+        for j in range(n1):
+            for k in range(n2):
+                if not (ta[i, j, k] == ta_c and tsky[i, j, k] == tsky_c and tg[i, j, k] == tg_c
+                        and fs[i, j, k] == s and fa[i, j, k] == f_a and fg[i, j, k] == f_g):
+                    ta_c, tsky_c, tg_c = ta[i, j, k], tsky[i, j, k], tg[i, j, k]
+                    s, f_a, f_g = fs[i, j, k], fa[i, j, k], fg[i, j, k]
+                    ta_k, tsky_k, tg_k = ta_c + KELVIN, tsky_c + KELVIN, tg_c + KELVIN
+                    t2 = ta_k * ta_k
+                    a_sky = sigma * (tsky_k * tsky_k + t2) * (tsky_k + ta_k)
+                    a_air = sigma * (ta_k * ta_k + t2) * (ta_k + ta_k)
+                    a_gnd = sigma * (tg_k * tg_k + t2) * (tg_k + ta_k)
+                    # sum_x F_x T_x^4 of q0, and P_1 .. P_3 of the Horner form
+                    f_sum = s + f_a + f_g
+                    p_1 = s * tsky_k + f_a * ta_k + f_g * tg_k
+                    p_2 = s * tsky_k * tsky_k + f_a * ta_k * ta_k + f_g * tg_k * tg_k
+                    p_3 = (s * tsky_k * tsky_k * tsky_k + f_a * ta_k * ta_k * ta_k
+                           + f_g * tg_k * tg_k * tg_k)
+                    l_4 = (s * (tsky_k * tsky_k) * (tsky_k * tsky_k)
+                           + f_a * (ta_k * ta_k) * (ta_k * ta_k)
+                           + f_g * (tg_k * tg_k) * (tg_k * tg_k))
+                ev = e[i, j, k]
+                h_c = hc[i, j, k]
+                ag = a[i, j, k] * g[i, j, k]
+                h_s, h_g = (ev * s) * a_sky, (ev * f_g) * a_gnd
+                h_rad = h_s + (ev * f_a) * a_air + h_g
+                h_e = h_rad + h_c
+                if not h_e >= H_E_MIN:
+                    return _NO_EXCHANGE, 0.0, (i * n1 + j) * n2 + k
+                t_eq = (h_s * (tsky_c - ta_c) + h_g * (tg_c - ta_c) + ag) / h_e + ta_c
+                if not math.isfinite(t_eq):
+                    return _NOT_FINITE, 0.0, (i * n1 + j) * n2 + k
+                if surface:
+                    t = max(t_eq + KELVIN, 1.0)
+                    sig_e = sigma * ev
+                    esf = sig_e * f_sum
+                    q0 = ag + h_c * ta_k + sig_e * l_4
+                    step = math.inf
+                    for _ in range(max_iter):
+                        t3 = t * t * t * esf  # esf T^3
+                        step = (q0 - (t3 + h_c) * t) / (4.0 * t3 + h_c)
+                        t += step
+                        if abs(step) <= tol:
+                            break
+                    else:
+                        if not math.isfinite(step):  # h_e > 0 here, so T^4 overflowed
+                            return _NOT_FINITE, 0.0, (i * n1 + j) * n2 + k
+                        status = _NOT_CONVERGED
+                        largest = max(largest, abs(step))
+                    h_rad = (((f_sum * t + p_1) * t + p_2) * t + p_3) * sig_e
+                    h_e = h_rad + h_c
+                    if not h_e >= H_E_MIN:
+                        return _NO_EXCHANGE, 0.0, (i * n1 + j) * n2 + k
+                    t_eq = t - KELVIN
+                t_out[i, j, k] = t_eq
+                h_rad_out[i, j, k] = h_rad
+                h_e_out[i, j, k] = h_e
+                r_se_out[i, j, k] = 1.0 / h_e
+    return status, largest, -1
+
+
+@functools.cache
+def _balance_kernel():
+    """:func:`_balance_loop` compiled once, for read-only 3-D float64 inputs of any layout.
+
+    The one signature takes every input as a read-only 'A'-layout array (broadcast views;
+    C, F and writable arrays convert to it) and C-contiguous outputs; compiling other
+    specialisations at call time is disabled. numba is imported here, on first use, so that
+    importing this module stays cheap; ``cache=True`` keeps the machine code on disk.
+    """
+    import numba
+    from numba import types
+
+    ro = types.Array(types.float64, 3, "A", readonly=True)
+    out = types.Array(types.float64, 3, "C")
+    kernel = numba.njit(cache=True)(_balance_loop)
+    kernel.compile((ro,) * 10 + (types.float64, types.float64, types.int64, types.boolean)
+                   + (out,) * 4)
+    kernel.disable_compile()
+    return kernel

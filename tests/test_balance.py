@@ -230,3 +230,129 @@ def test_surface_mode_matches_brentq(ta, g, alpha, eps, hc, dep, tilt):
     root = _brentq_surface(alpha * g, eps, hc, ta + K, ta - dep + K, float(v["view_sky"]),
                            float(v["view_air"]), float(v["view_ground"]))
     assert_allclose(out["temp_sol_air"] + K, root, atol=2e-6)
+
+
+# --- the compiled element-wise kernel -----------------------------------------------------------
+
+def _random_inputs(rng, shapes):
+    """Balance inputs drawn at the given (broadcastable) shapes, keyed as temp_sol_air's."""
+    ta = rng.uniform(-30.0, 45.0, shapes["ta"])
+    tilt = rng.uniform(0.0, 180.0, shapes["view"])
+    fs, fa, fg = longwave.view_factors(tilt, sky_air_split=True)
+    return {
+        "temp_air": ta,
+        "poa_global": rng.uniform(0.0, 1100.0, shapes["g"]),
+        "absorptance": rng.uniform(0.0, 1.0, shapes["optics"]),
+        "emissivity": rng.uniform(0.02, 1.0, shapes["optics"]),
+        "h_conv": rng.uniform(0.0, 60.0, shapes["g"]),
+        "temp_sky": ta - rng.uniform(0.0, 35.0, shapes["ta"]),
+        "temp_ground": ta + rng.uniform(-10.0, 15.0, shapes["ta"]),
+        "view_sky": fs, "view_air": fa, "view_ground": fg,
+    }
+
+
+def _call(kw, **options):
+    pos = [kw[k] for k in ("temp_air", "poa_global", "absorptance", "emissivity", "h_conv",
+                           "temp_sky")]
+    rest = {k: kw[k] for k in ("temp_ground", "view_sky", "view_air", "view_ground")}
+    return balance.temp_sol_air(*pos, **rest, **options)
+
+
+def test_kernel_matches_brentq_on_random_broadcast_inputs():
+    # independent check: scipy's bracketing root finder (brentq) on the exact quartic, element by
+    # element, for (time, 1, 1) weather, (time, surface, 1) irradiance and h_c, (1, surface, 1)
+    # view factors (sky/air split, ground warmer or colder than air), (1, 1, finish) optics
+    rng = np.random.default_rng(7)
+    shapes = {"ta": (12, 1, 1), "g": (12, 5, 1), "view": (1, 5, 1), "optics": (1, 1, 5)}
+    kw = _random_inputs(rng, shapes)
+    out = _call(kw, linearisation="surface")
+    t = out["temp_sol_air"]
+    assert t.shape == (12, 5, 5)
+    full = {k: np.broadcast_to(v, t.shape) for k, v in kw.items()}
+    roots = np.empty(t.shape)
+    for idx in np.ndindex(t.shape):
+        v = {k: float(x[idx]) for k, x in full.items()}
+        roots[idx] = _brentq_surface(v["absorptance"] * v["poa_global"], v["emissivity"],
+                                     v["h_conv"], v["temp_air"] + K, v["temp_sky"] + K,
+                                     v["view_sky"], v["view_air"], v["view_ground"],
+                                     v["temp_ground"] + K)
+    assert_allclose(t + K, roots, rtol=0, atol=1e-6)
+    # and h_rad is the sum of the secant coefficients about that root (longwave.h_rad_secant)
+    h = sum(longwave.h_rad_secant(full["emissivity"], full[f"view_{x}"], full[temp], t)
+            for x, temp in (("sky", "temp_sky"), ("air", "temp_air"), ("ground", "temp_ground")))
+    assert_allclose(out["h_rad"], h, rtol=1e-12)
+    assert_allclose(out["h_e"], out["h_rad"] + out["h_conv"], rtol=1e-14)
+    assert_allclose(out["r_se"], 1.0 / out["h_e"], rtol=1e-14)
+
+
+SHAPES_BY_NDIM = {
+    0: {"ta": (), "g": (), "view": (), "optics": ()},
+    1: {"ta": (6,), "g": (6,), "view": (1,), "optics": ()},
+    2: {"ta": (6, 1), "g": (6, 3), "view": (3,), "optics": (1, 1)},
+    3: {"ta": (4, 1, 1), "g": (4, 3, 1), "view": (1, 3, 1), "optics": (2,)},
+    4: {"ta": (2, 3, 1, 1), "g": (2, 3, 4, 1), "view": (1, 1, 4, 1), "optics": (1, 3, 1, 2)},
+}
+
+
+@pytest.mark.parametrize("lin", ["air", "surface"])
+@pytest.mark.parametrize("ndim", sorted(SHAPES_BY_NDIM))
+def test_any_ndim_equals_elementwise_calls(ndim, lin):
+    # the kernel loops over a canonical 3-D shape (leading axes added or merged): every shape
+    # gives, element by element, the values of one call with scalar inputs
+    rng = np.random.default_rng(ndim)
+    kw = _random_inputs(rng, SHAPES_BY_NDIM[ndim])
+    out = _call(kw, linearisation=lin)
+    shape = np.broadcast_shapes(*(np.shape(v) for v in kw.values()))
+    assert len(shape) == ndim
+    for key in ("temp_sol_air", "h_rad", "h_e", "h_conv", "r_se", "h_rad_sky", "h_rad_air",
+                "h_rad_ground"):
+        assert out[key].shape == shape
+        assert np.all(np.isfinite(out[key]))
+    for idx in np.ndindex(shape):
+        one = _call({k: float(np.broadcast_to(v, shape)[idx]) for k, v in kw.items()},
+                    linearisation=lin)
+        for key in ("temp_sol_air", "h_rad", "h_e", "r_se", "h_rad_sky"):
+            assert_allclose(out[key][idx], one[key], rtol=1e-13, atol=1e-13)
+    assert_allclose(out["h_rad_sky"] + out["h_rad_air"] + out["h_rad_ground"], out["h_rad"],
+                    rtol=1e-12)
+
+
+@pytest.mark.parametrize("lin", ["air", "surface"])
+def test_read_only_and_non_contiguous_inputs(lin):
+    # broadcast views (read-only), Fortran order, strided slices and writable C arrays all give
+    # the same values, through one compiled specialisation of the kernel
+    rng = np.random.default_rng(3)
+    kw = _random_inputs(rng, {"ta": (10, 6), "g": (10, 6), "view": (10, 6), "optics": (10, 6)})
+    ref = _call(kw, linearisation=lin)
+    variants = {
+        "fortran": {k: np.asfortranarray(v) for k, v in kw.items()},
+        "strided": {k: np.repeat(v, 2, axis=1)[:, ::2] for k, v in kw.items()},
+        "read-only": {k: np.broadcast_to(v, v.shape) for k, v in kw.items()},
+        "transposed": {k: np.ascontiguousarray(v.T).T for k, v in kw.items()},
+    }
+    for name, args in variants.items():
+        assert not args["temp_air"].flags.c_contiguous or name == "read-only", name
+        out = _call(args, linearisation=lin)
+        for key in ("temp_sol_air", "h_rad", "h_e", "r_se"):
+            assert_allclose(out[key], ref[key], rtol=0, atol=0, err_msg=f"{name} {key}")
+    assert len(balance._balance_kernel().signatures) == 1
+
+
+def test_kernel_error_paths():
+    kw = {**HORIZONTAL, "linearisation": "surface"}
+    # no exchange at one element: it is named by its index in the broadcast shape
+    eps = np.array([[0.9, 0.9], [0.9, 0.0]])
+    for lin in ("air", "surface"):
+        with pytest.raises(ConfigurationError,
+                           match=r"h_e = h_conv \+ h_rad is below 1e-06 .* at element \(1, 1\)"):
+            balance.temp_sol_air(20.0, 100.0, 0.5, eps, 0.0, 5.0, **{**kw, "linearisation": lin})
+    # too few Newton steps: the largest last step is reported
+    with pytest.raises(ConfigurationError,
+                       match=r"did not converge to 1e-06 K in 1 Newton steps \(largest last step "
+                             r"[0-9.e+-]+ K\)"):
+        balance.temp_sol_air(20.0, 1000.0, 0.9, 0.9, 5.0, -20.0, **kw, max_iter=1)
+    # alpha G so large that T_eq is not representable: an error, never inf
+    for lin in ("air", "surface"):
+        with pytest.raises(ConfigurationError, match=r"overflows at element \(1,\)"):
+            balance.temp_sol_air(20.0, np.array([100.0, 1e308]), 1.0, 1e-9, 1e-6, 5.0,
+                                 **{**kw, "linearisation": lin})
