@@ -203,3 +203,26 @@ def test_read_weather_fast_path_year_unchanged(greensboro_path):
         w = read_weather(greensboro_path)
     pd.testing.assert_frame_equal(w.data, slow[0], check_exact=True)
     assert w.filled == slow[2] and w.notes == slow[3]
+
+
+@pytest.mark.parametrize("text, accepted", [
+    ("0", True), ("-0", True), ("-0.0", True), ("0.1", True), ("12.3", True), ("-9900", True),
+    ("00012.50", True), ("999999999", True), ("0.999", True), ("123456789012345", True),
+    ("-1.23456789012345", True), ("1234567890123456", False), ("1.", False), (".5", False),
+    ("-.5", False), ("1e5", False), ("+1", False), ("--1", False), ("1.2.3", False),
+    ("-", False), ("1-2", False), ("NA", False), ("A", False),
+])
+def test_fast_number_parse_is_pandas_bit_for_bit_or_steps_aside(text, accepted):
+    # Reference: pandas.read_csv's C parser (the one behind pvlib's readers). A plain decimal
+    # of up to 15 digits is parsed to the same float64 bits (-0.0 included); anything else
+    # makes the fast path step aside for the line-by-line reader.
+    body = "\n".join(f"7,{text},1" for _ in range(3)) + "\n"
+    v = _fast._block(body, 3).floats([0, 1, 2])
+    if not accepted:
+        assert v is None
+        return
+    import io
+
+    ref = pd.read_csv(io.StringIO(body), header=None, dtype=np.float64).to_numpy()
+    assert v is not None
+    assert_array_equal(v.view(np.int64), ref.view(np.int64))
