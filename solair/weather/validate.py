@@ -133,8 +133,9 @@ def _fixed_tz(utc_offset: float):
 
 
 def _build_index(raw: RawTable, name: str, utc_offset: float, notes: list[str]):
+    """The canonical index, the rows kept (None: all) and their line numbers."""
     month, day, hour, line = raw.month, raw.day, raw.hour, raw.line
-    data = raw.data
+    keep = None
     leap = (month == 2) & (day == 29)
     if leap.any():
         if int(leap.sum()) != 24 or len(month) != 8784:
@@ -146,7 +147,6 @@ def _build_index(raw: RawTable, name: str, utc_offset: float, notes: list[str]):
                      f"{int(line[leap][0])}-{int(line[leap][-1])}) to fit the non-leap "
                      f"reference year {REFERENCE_YEAR}")
         month, day, hour, line = month[keep], day[keep], hour[keep], line[keep]
-        data = data.loc[keep].reset_index(drop=True)
     idx = canonical_index(month, day, hour, utc_offset)
     dup = idx.duplicated(keep="first")
     if dup.any():
@@ -174,11 +174,33 @@ def _build_index(raw: RawTable, name: str, utc_offset: float, notes: list[str]):
             detail = f"; unexpected stamp {_stamp(extra[0])}"
         raise _fail(name, f"has {len(idx)} hourly rows, expected 8760 (a whole year of "
                     f"hours, or 8784 with 29 February){detail}")
-    data.index = idx
-    return data, line
+    return idx, keep, line
 
 
 # --------------------------------------------------------------------------- sun
+
+def _fields(index: pd.DatetimeIndex, utc: bool = False):
+    """Day of year, hour and minute of ``index`` in its own zone (or in UTC) as numpy arrays.
+
+    Computed from the nanoseconds for a fixed-offset zone (the canonical index's);
+    pandas' field accessors otherwise (same numbers, slower).
+    """
+    off = None
+    if index.tz is not None:
+        try:
+            off = index.tz.utcoffset(None)
+        except Exception:  # noqa: BLE001 - a zone with rules: let pandas do it
+            off = None
+    if off is None:
+        idx = index.tz_convert("UTC") if utc else index
+        return (idx.day_of_year.to_numpy(), idx.hour.to_numpy(), idx.minute.to_numpy())
+    ns = index.as_unit("ns").asi8
+    if not utc:
+        ns = ns + int(off.total_seconds() * 1e9)
+    t = ns.astype("datetime64[ns]")
+    doy = (t.astype("datetime64[D]") - t.astype("datetime64[Y]")).astype(np.int64) + 1
+    return doy, (ns // 3_600_000_000_000) % 24, (ns // 60_000_000_000) % 60
+
 
 def extraterrestrial_horizontal(index: pd.DatetimeIndex, latitude: float, longitude: float,
                                 substeps: int = 6) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -203,15 +225,15 @@ def extraterrestrial_horizontal(index: pd.DatetimeIndex, latitude: float, longit
     """
     from pvlib import irradiance, solarposition
 
-    doy = index.day_of_year.to_numpy()
+    doy = _fields(index)[0]
     # the day terms once per calendar day (a year has 365 of them, not 8760)
     days = np.arange(1, 367)
     e0n = np.asarray(irradiance.get_extra_radiation(days), dtype=float)[doy - 1]
     decl = solarposition.declination_spencer71(days)[doy - 1]
     eot = solarposition.equation_of_time_spencer71(days)[doy - 1]  # [min]
     # hours since 00:00 UTC of the label, then apparent solar time (vectorised hour angle)
-    utc = index.tz_convert("UTC")
-    utc_hours = utc.hour.to_numpy() + utc.minute.to_numpy() / 60.0
+    _, hour, minute = _fields(index, utc=True)
+    utc_hours = hour + minute / 60.0
     lat = np.radians(latitude)
     # instants from the hour start to its end, all at once: (substeps + 1, n_hours)
     fractions = np.linspace(0.0, 1.0, substeps + 1)[:, None]
@@ -237,10 +259,9 @@ def irradiance_timing_offset(ghi: np.ndarray, index: pd.DatetimeIndex, longitude
     """
     from pvlib import solarposition
 
-    mid = index - pd.Timedelta(minutes=30)
-    eot = solarposition.equation_of_time_spencer71(np.arange(1, 367))[
-        mid.day_of_year.to_numpy() - 1] / 60.0
-    clock = mid.hour.to_numpy() + mid.minute.to_numpy() / 60.0
+    doy, hour, minute = _fields(index - pd.Timedelta(minutes=30))
+    eot = solarposition.equation_of_time_spencer71(np.arange(1, 367))[doy - 1] / 60.0
+    clock = hour + minute / 60.0
     solar = clock + (longitude - 15.0 * utc_offset) / 15.0 + eot
     w = np.nan_to_num(np.clip(ghi, 0.0, None))
     ang = 2.0 * np.pi * solar / 24.0
@@ -249,12 +270,15 @@ def irradiance_timing_offset(ghi: np.ndarray, index: pd.DatetimeIndex, longitude
 
 
 # --------------------------------------------------------------------------- values
+# The helpers below take the columns as a mapping name -> values (a dict of numpy
+# arrays inside validate(); a DataFrame works too) and the index separately: the
+# table is built once at the end, without pandas' per-column overhead on the way.
 
-def _check_ranges(data: pd.DataFrame, line: np.ndarray, name: str, notes: list[str]) -> None:
+def _check_ranges(data, line: np.ndarray, name: str, notes: list[str]) -> None:
     for col, (lo, hi) in RANGES.items():
         if col not in data:
             continue
-        v = data[col].to_numpy() + 0.0  # + 0.0 turns -0.0 into 0.0
+        v = np.asarray(data[col]) + 0.0  # + 0.0 turns -0.0 into 0.0
         data[col] = v
         if col in _IRRADIANCE or col == "ghi_infrared":
             small = (v < lo) & (v >= _NEGATIVE_TOLERANCE)
@@ -271,23 +295,23 @@ def _check_ranges(data: pd.DataFrame, line: np.ndarray, name: str, notes: list[s
                         f"({int(bad.sum())} such rows)", int(line[i]))
 
 
-def _check_consistency(data: pd.DataFrame, line: np.ndarray, name: str, lat: float,
-                       lon: float, timing_offset: float) -> None:
-    idx = data.index
+def _check_consistency(data, index: pd.DatetimeIndex, line: np.ndarray, name: str,
+                       lat: float, lon: float, timing_offset: float) -> None:
+    idx = index
     if timing_offset:
         idx = idx - pd.Timedelta(hours=timing_offset)  # check against the sun as the data are
     e0h, e0n, up = extraterrestrial_horizontal(idx, lat, lon)
     limits = {"ghi": _GHI_FACTOR * e0h + _IRR_MARGIN, "dhi": _GHI_FACTOR * e0h + _IRR_MARGIN,
               "dni": e0n * up + _IRR_MARGIN}
     for col, lim in limits.items():
-        v = data[col].to_numpy()
+        v = np.asarray(data[col])
         bad = v > lim
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
-            raise _fail(name, f"{col} = {v[i]:g} W/m² in the hour ending {_stamp(data.index[i])} "
+            raise _fail(name, f"{col} = {v[i]:g} W/m² in the hour ending {_stamp(index[i])} "
                         f"exceeds what the sun can deliver ({lim[i]:.0f} W/m²: extraterrestrial "
                         f"{e0h[i]:.0f} W/m² horizontal, {e0n[i]:.0f} W/m² normal)", int(line[i]))
-    td, t = data["temp_dew"].to_numpy(), data["temp_air"].to_numpy()
+    td, t = np.asarray(data["temp_dew"]), np.asarray(data["temp_air"])
     bad = td > t + 1.0
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
@@ -302,10 +326,10 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     return list(zip(np.flatnonzero(d == 1), np.flatnonzero(d == -1), strict=True))
 
 
-def _fill_short_gaps(data: pd.DataFrame, filled: dict[str, int]) -> None:
-    for col in data.columns:
-        v = data[col]
-        na = v.isna().to_numpy()
+def _fill_short_gaps(data, filled: dict[str, int]) -> None:
+    for col in list(data):
+        v = np.asarray(data[col], dtype=float)
+        na = np.isnan(v)
         if not na.any() or na.all():
             continue
         short = np.zeros(len(v), dtype=bool)
@@ -318,8 +342,8 @@ def _fill_short_gaps(data: pd.DataFrame, filled: dict[str, int]) -> None:
         ok = ~na
         # linear in time; the year wraps around (Dec 31 joins Jan 1 of a typical year)
         xp = np.concatenate([x[ok] - len(v), x[ok], x[ok] + len(v)])
-        fp = np.tile(v.to_numpy()[ok], 3)
-        new = v.to_numpy().copy()
+        fp = np.tile(v[ok], 3)
+        new = v.copy()
         new[short] = np.interp(x[short], xp, fp)
         if col in _IRRADIANCE or col == "ghi_infrared":
             new[short] = np.clip(new[short], 0.0, None)
@@ -327,16 +351,16 @@ def _fill_short_gaps(data: pd.DataFrame, filled: dict[str, int]) -> None:
         filled[col] = filled.get(col, 0) + int(short.sum())
 
 
-def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str],
+def _derive(data, altitude: float, name: str, notes: list[str],
             counts: dict[str, int]) -> None:
     from pvlib.atmosphere import alt2pres
 
     from solair import psychrometrics as ps
 
-    t = data["temp_air"].to_numpy()
+    t = np.asarray(data["temp_air"])
     derived = []
-    td = data["temp_dew"].to_numpy()
-    rh = data["relative_humidity"].to_numpy()
+    td = np.asarray(data["temp_dew"])
+    rh = np.asarray(data["relative_humidity"])
     need = np.isnan(td) & ~np.isnan(rh) & ~np.isnan(t)
     if need.any():
         td = td.copy()
@@ -352,7 +376,7 @@ def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str],
         data["relative_humidity"] = rh
         counts["relative_humidity"] = int(need.sum())
         derived.append(f"relative_humidity from temp_dew and temp_air in {int(need.sum())} hours")
-    p = data["pressure"].to_numpy()
+    p = np.asarray(data["pressure"])
     need = np.isnan(p)
     if need.any():
         p = p.copy()
@@ -366,9 +390,9 @@ def _derive(data: pd.DataFrame, altitude: float, name: str, notes: list[str],
         warnings.warn(f"{name}: derived {d}", WeatherWarning, stacklevel=4)
 
 
-def _check_complete(data: pd.DataFrame, line: np.ndarray, name: str) -> None:
+def _check_complete(data, index: pd.DatetimeIndex, line: np.ndarray, name: str) -> None:
     for col in REQUIRED:
-        na = data[col].isna().to_numpy()
+        na = np.isnan(np.asarray(data[col], dtype=float))
         if not na.any():
             continue
         if na.all():
@@ -376,8 +400,8 @@ def _check_complete(data: pd.DataFrame, line: np.ndarray, name: str) -> None:
                         "missing-value code)")
         a, b = _runs(na)[0]
         raise _fail(name, f"{col} is missing for {b - a} consecutive hours, from the hour "
-                    f"ending {_stamp(data.index[a])} (line {int(line[a])}) to the hour ending "
-                    f"{_stamp(data.index[b - 1])} (line {int(line[b - 1])}); gaps up to "
+                    f"ending {_stamp(index[a])} (line {int(line[a])}) to the hour ending "
+                    f"{_stamp(index[b - 1])} (line {int(line[b - 1])}); gaps up to "
                     f"{MAX_GAP_HOURS} h are filled, longer ones are an error")
 
 
@@ -409,22 +433,25 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
                      f"UTC{raw.meta['utc_offset']:+g} h)")
     if not -12.0 <= offset <= 14.0:
         raise WeatherFileError(f"{name}: utc_offset = {offset:g} h is outside [-12, 14] h")
-    data, line = _build_index(raw, name, offset, notes)
-    data = data.copy()
+    index, keep, line = _build_index(raw, name, offset, notes)
+    data = {}  # column -> values (own copies), the table is built at the end
+    for col in raw.data.columns:
+        v = raw.data[col].to_numpy(copy=True)
+        data[col] = v if keep is None else v[keep]
     for col in (*REQUIRED, *OPTIONAL):
         if col not in data and col in REQUIRED:
             raise _fail(name, f"the file has no {col} field")
     if "albedo" in data:
-        zero = data["albedo"].to_numpy() <= 0.0
+        zero = data["albedo"] <= 0.0
         if zero.any():
-            data.loc[zero, "albedo"] = np.nan
+            data["albedo"][zero] = np.nan
             notes.append(f"albedo: {int(zero.sum())} values of 0 taken as missing (no ground "
                          "has zero albedo)")
     _check_ranges(data, line, name, notes)
-    ghi_known = data["ghi"].to_numpy()
+    ghi_known = data["ghi"]
     timing = 0.0
     if np.nansum(np.clip(ghi_known, 0, None)) > 0:
-        timing = irradiance_timing_offset(ghi_known, data.index, raw.meta["longitude"], offset)
+        timing = irradiance_timing_offset(ghi_known, index, raw.meta["longitude"], offset)
     shift = 0.0
     if abs(timing) > TIMING_TOLERANCE_HOURS:
         shift = float(np.round(timing))
@@ -436,16 +463,18 @@ def validate(raw: RawTable, name: str, utc_offset: float | None = None):
                    f"utc_offset={fits:g} (on the command line: --utc-offset {fits:g})")
             notes.append(msg.split(": ", 1)[1])
             warnings.warn(msg, WeatherWarning, stacklevel=3)
-    _check_consistency(data, line, name, raw.meta["latitude"], raw.meta["longitude"], shift)
+    _check_consistency(data, index, line, name, raw.meta["latitude"], raw.meta["longitude"],
+                       shift)
     filled: dict[str, int] = {}
     _fill_short_gaps(data, filled)
     derived: dict[str, int] = {}
     _derive(data, raw.meta["altitude"], name, notes, derived)
-    _check_complete(data, line, name)
-    cols = [c for c in REQUIRED] + [c for c in OPTIONAL if c in data and data[c].notna().any()]
+    _check_complete(data, index, line, name)
+    given = {c: c in data and not np.isnan(data[c]).all() for c in OPTIONAL}
+    cols = [c for c in REQUIRED] + [c for c in OPTIONAL if given[c]]
     for c in OPTIONAL:
-        if c in data and not data[c].notna().any():
+        if c in data and not given[c]:
             notes.append(f"{c} not given in the file (all missing)")
-    data = data[cols]
+    data = pd.DataFrame({c: data[c] for c in cols}, index=index, copy=False)
     filled = {c: filled.get(c, 0) for c in cols}
     return data, offset, filled, notes, derived
