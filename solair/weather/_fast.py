@@ -226,7 +226,7 @@ def epw_body(body: str, meta: dict) -> RawTable | None:
         x[x >= code] = np.nan
         out[col] = x
     line_no = np.arange(9, 9 + blk.nrows)
-    return RawTable("epw", meta, pd.DataFrame(out), month, day, hour, line_no)
+    return RawTable("epw", meta, pd.DataFrame(out, copy=False), month, day, hour, line_no)
 
 
 # --------------------------------------------------------------------------- TMY3
@@ -298,4 +298,4 @@ def tmy3_body(body: str, meta: dict, site_line: str, columns: list[str]) -> RawT
             x[blk.is_char(columns.index(flag), _QUERY)] = np.nan
         out[col] = x * scale
     line_no = np.arange(3, 3 + blk.nrows)
-    return RawTable("tmy3", meta, pd.DataFrame(out), month, day, hour, line_no)
+    return RawTable("tmy3", meta, pd.DataFrame(out, copy=False), month, day, hour, line_no)
