@@ -188,6 +188,7 @@ def test_unknown_transposition_model_lists_allowed():
         sun.plane_of_array([0], [180], [30], [180], [1], [1], [1], model="klucher")
 
 
+@pytest.mark.filterwarnings("ignore:.*dayofyear is deprecated")  # inside pvlib 0.16
 @pytest.mark.parametrize("lat, lon", [(36.1, -79.95), (-33.87, 151.21), (64.1, -21.9),
                                       (89.99, 179.99), (-89.99, -180.0)])
 def test_linke_turbidity_equals_pvlib_lookup(lat, lon):
@@ -260,6 +261,7 @@ def test_spa_node_table_is_shared_between_sites():
     assert not np.array_equal(a.apparent_zenith, b.apparent_zenith)
 
 
+@pytest.mark.filterwarnings("ignore:.*dayofyear is deprecated")  # inside pvlib 0.16
 def test_ephemeris_method_places_sunrise_hours():
     # pvlib's simple ephemeris is within ~0.03° of NREL SPA (Reda & Andreas 2004); the
     # sunrise/sunset hours are written into its arrays (read-only pandas views before).
