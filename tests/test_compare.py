@@ -306,3 +306,51 @@ def test_dew_skips_dry_hours_equal_to_hourly_loop_greensboro(greensboro_weather,
                         atol=1e-9)
     assert got[True][0]["condensate"].values.max() > 0.0  # dew did form
     pd.testing.assert_frame_equal(got[True][1], got[False][1], rtol=0, atol=1e-9)
+
+
+@pytest.mark.parametrize("model", ["steady", "massless"])
+@pytest.mark.parametrize("indoor", ["constant", "hourly", "per_column", "r_inside"])
+def test_all_hours_kernel_equals_hourly_loop_random(monkeypatch, model, indoor):
+    """The compiled all-hours pass against the stepped loop on random forcing (T_eq around
+    and exactly at T_i, so both ISO 6946 R_si candidates and the tie occur), with the
+    indoor temperature constant, hourly and per column, and non-contiguous inputs."""
+    from solair import response as resp
+
+    rng = np.random.default_rng(3)
+    n = 200
+    t_eq = np.swapaxes(rng.normal(20.0, 12.0, (n, 4, 3)), 1, 2)  # (n, 3, 4), not C-contiguous
+    t_eq[::9, 0, :] = 20.0
+    h_e = rng.uniform(4.0, 35.0, (n, 3, 4))
+    tilt = np.array([0.0, 90.0, 180.0])[:, None]
+    t_in = {"constant": 20.0, "hourly": 20.0 + 0.0 * np.arange(n),
+            "per_column": np.full((n, 3, 4), 20.0), "r_inside": 20.0}[indoor]
+    kw = {"model": model, "resistance": 0.8, "surface_tilt": tilt, "temp_indoor": t_in,
+          "r_inside": 0.13 if indoor == "r_inside" else None}
+    out = {}
+    for fast in (True, False):
+        monkeypatch.setattr(resp, "_FAST_PATH", fast)
+        out[fast] = resp.surface_response(t_eq, h_e, **kw)
+    for k in ("temp_surface", "heat_flux", "heat_flux_exterior"):
+        assert out[True][k].shape == (n, 3, 4)
+        assert_allclose(out[True][k], out[False][k], rtol=0, atol=1e-12)
+    for k in ("latent_flux", "condensation", "condensate", "wet"):
+        assert not out[True][k].any()
+
+
+@pytest.mark.parametrize(("where", "message"), [
+    ("h_nan", "h_ext holds NaN or infinite values"),
+    ("h_zero", "h_ext must be > 0"),
+    ("t_eq_inf", "temp_sol_air holds NaN or infinite values"),
+    ("t_in_nan", "temp_indoor holds NaN or infinite values"),
+])
+def test_all_hours_rejects_bad_inputs(where, message):
+    """The checks of the stepped path, now made inside the compiled pass."""
+    from solair import response as resp
+
+    t_eq = np.full((6, 2), 25.0)
+    h_e = np.full((6, 2), 15.0)
+    t_in = np.full(6, 20.0)
+    {"h_nan": h_e, "h_zero": h_e, "t_eq_inf": t_eq, "t_in_nan": t_in}[where][3] = {
+        "h_nan": np.nan, "h_zero": 0.0, "t_eq_inf": np.inf, "t_in_nan": np.nan}[where]
+    with pytest.raises(solair.ConfigurationError, match=message):
+        resp.surface_response(t_eq, h_e, model="steady", resistance=0.5, temp_indoor=t_in)
