@@ -270,34 +270,37 @@ def compare(
         "caution": CAUTION,
     })
 
-    # ---- metrics per surface x finish
-    ts = res["temp_surface"]
-    t_dew = col("temp_dew")
-    t_air = col("temp_air")
-    ghi = np.asarray(weather.data["ghi"].values, dtype=float)[:, None, None]
+    # ---- metrics per surface x finish: one compiled pass over the hours; the air, its
+    # dew point and ghi stay time-only (never broadcast to time x surface x finish)
     start = local_time(ds) - pd.Timedelta(hours=1)
     day = np.asarray(start.year * 10000 + start.month * 100 + start.day)  # YYYYMMDD
-    dew_h, frost_h = _m.hours_below_dew_point(ts, t_dew)
-    uc_h, uc_dh = _m.undercooling(ts, t_air, ghi)
-    gain, loss = _m.heat_gain_loss(res["heat_flux"])
-    cond = res["condensation"]
+    m = _m.surface_table(
+        res["temp_surface"], col("temp_air"), col("temp_dew"),
+        np.asarray(weather.data["ghi"].values, dtype=float)[:, None, None], res["heat_flux"],
+        day, threshold=threshold, q=99.0)
+    if dew:
+        condensate_total = np.sum(np.maximum(res["condensation"], 0.0), axis=0)
+        wet_hours = np.sum(res["wet"], axis=0)
+    else:  # a dry surface: no condensate (the response's arrays are all zero)
+        condensate_total = np.zeros((n_s, n_f))
+        wet_hours = np.zeros((n_s, n_f), dtype=np.int64)
     table = {
-        "temp_surface_max": _m.peak(ts),
-        "temp_surface_p99": _m.percentile(ts, 99.0),
-        "hours_above_threshold": _m.hours_above(ts, threshold),
+        "temp_surface_max": m["temp_surface_max"],
+        "temp_surface_p99": m["temp_surface_p99"],
+        "hours_above_threshold": m["hours_above_threshold"],
         "threshold": np.full((n_s, n_f), threshold),
-        "daily_range_max": _m.max_daily_range(ts, day),
-        "dew_hours": dew_h,
-        "frost_hours": frost_h,
-        "freeze_thaw_cycles": _m.freeze_thaw_cycles(ts),
-        "undercooling_hours": uc_h,
-        "undercooling_degree_hours": uc_dh,
-        "heat_gain": gain,
-        "heat_loss": loss,
-        "heat_flux_peak_in": np.max(np.maximum(res["heat_flux"], 0.0), axis=0),
-        "heat_flux_peak_out": np.max(np.maximum(-res["heat_flux"], 0.0), axis=0),
-        "condensate_total": np.sum(np.maximum(cond, 0.0), axis=0),
-        "wet_hours": np.sum(res["wet"], axis=0),
+        "daily_range_max": m["daily_range_max"],
+        "dew_hours": m["dew_hours"],
+        "frost_hours": m["frost_hours"],
+        "freeze_thaw_cycles": m["freeze_thaw_cycles"],
+        "undercooling_hours": m["undercooling_hours"],
+        "undercooling_degree_hours": m["undercooling_degree_hours"],
+        "heat_gain": m["heat_gain"],
+        "heat_loss": m["heat_loss"],
+        "heat_flux_peak_in": m["heat_flux_peak_in"],
+        "heat_flux_peak_out": m["heat_flux_peak_out"],
+        "condensate_total": condensate_total,
+        "wet_hours": wet_hours,
     }
     surf = np.repeat(forcing["surface"].values, n_f)
     rows = {
