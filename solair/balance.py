@@ -34,6 +34,7 @@ from __future__ import annotations
 
 import functools
 import math
+from collections.abc import Iterable
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -41,12 +42,16 @@ from numpy.typing import ArrayLike, NDArray
 from solair.errors import ConfigurationError
 from solair.longwave import KELVIN, SIGMA
 
-__all__ = ["LINEARISATIONS", "H_E_CONVENTIONAL", "temp_sol_air", "surface_balance_residual"]
+__all__ = ["LINEARISATIONS", "H_E_CONVENTIONAL", "OUTPUTS", "temp_sol_air",
+           "surface_balance_residual"]
 
 Array = NDArray[np.float64]
 
 #: Allowed linearisation points of the radiative coefficients.
 LINEARISATIONS = frozenset({"air", "surface"})
+#: Outputs of :func:`temp_sol_air` (names of its ``variables``).
+OUTPUTS = ("temp_sol_air", "h_rad", "h_rad_sky", "h_rad_air", "h_rad_ground", "h_e", "h_conv",
+           "r_se")
 #: h_e = 1/R_se of the ISO 6946 conventional R_se = 0.04 m2 K W-1.
 H_E_CONVENTIONAL = 25.0
 #: Smallest h_e accepted [W m-2 K-1]: below it the surface is taken to exchange no heat.
@@ -142,6 +147,7 @@ def temp_sol_air(
     sigma: float = SIGMA,
     max_iter: int = 100,
     components: bool = True,
+    variables: Iterable[str] | None = None,
 ) -> dict[str, Array]:
     r"""Sol-air (exterior equivalent) temperature, h_e and R_se of an outer surface.
 
@@ -196,19 +202,24 @@ def temp_sol_air(
     max_iter : int, default 100
     components : bool, default True
         Also return the three h_r,x; False spares their full-shape arrays (the engine
-        uses only their sum).
+        uses only their sum). Not used when ``variables`` is given.
+    variables : iterable of str, optional
+        Names of the outputs wanted (of :data:`OUTPUTS`); default all (the components
+        as ``components`` says). The others are neither computed into arrays nor
+        returned; the values of those returned are the same as in the full call.
 
     Returns
     -------
     dict of ndarray, all broadcast to a common shape
         ``temp_sol_air`` [°C], ``h_rad`` (Σ h_r,x), ``h_rad_sky``, ``h_rad_air``,
         ``h_rad_ground`` (with ``components``), ``h_e``, ``h_conv`` [W m-2 K-1] and
-        ``r_se`` [m2 K W-1]; every value finite (callers need no second check).
+        ``r_se`` [m2 K W-1]; every value finite (callers need no second check). With
+        ``variables``, exactly those keys.
 
     Raises
     ------
     ConfigurationError
-        Unknown linearisation, non-finite or out-of-range inputs, h_e ≤ 0, a
+        Unknown linearisation or output name, non-finite or out-of-range inputs, h_e ≤ 0, a
         conventional h_rad above 25, no convergence, or a T_eq that overflows
         (α G too large to be represented).
 
@@ -222,13 +233,14 @@ def temp_sol_air(
         raise ConfigurationError(
             f"linearisation {linearisation!r} is not one of {sorted(LINEARISATIONS)}"
         )
+    wanted = _wanted(variables, components)
     ta, g, a, e, hc, tsky, tg, fs, fa, fg = _inputs(
         temp_air, poa_global, absorptance, emissivity, h_conv, temp_sky, temp_ground,
         view_sky, view_air, view_ground)
     shape = np.broadcast_shapes(*(x.shape for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)))
     if not conventional:
         return _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter,
-                                 shape, linearisation == "surface", components)
+                                 shape, linearisation == "surface", wanted)
     # Conventional R_se: work at the inputs' own shapes and let numpy broadcast (the
     # temperature factors depend on time only, the optical factors on surface and finish).
     ta_k, tsky_k, tg_k = ta + KELVIN, tsky + KELVIN, tg + KELVIN
@@ -271,10 +283,37 @@ def temp_sol_air(
     t_eq += ta
     if t_eq.size and not (np.isfinite(np.min(t_eq)) and np.isfinite(np.max(t_eq))):
         raise _overflow_error(tuple(int(i) for i in np.argwhere(~np.isfinite(t_eq))[0]))
-    out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_e": h_e, "h_conv": hc, "r_se": 1.0 / h_e}
-    if components:
-        out.update(h_rad_sky=hs, h_rad_air=ha, h_rad_ground=hg)
-    return {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in out.items()}
+    out = {"temp_sol_air": t_eq, "h_rad": h_rad, "h_e": h_e, "h_conv": hc,
+           "r_se": (1.0 / h_e) if "r_se" in wanted else None,
+           "h_rad_sky": hs, "h_rad_air": ha, "h_rad_ground": hg}
+    return {k: np.broadcast_to(np.asarray(v, dtype=float), shape)
+            for k, v in out.items() if k in wanted}
+
+
+def _wanted(variables, components) -> tuple[str, ...]:
+    """The names of the outputs to return: ``variables`` checked, or all by ``components``."""
+    if variables is None and not components:
+        return tuple(k for k in OUTPUTS if k not in ("h_rad_sky", "h_rad_air", "h_rad_ground"))
+    return select_outputs(variables, OUTPUTS)
+
+
+def select_outputs(variables: Iterable[str] | str | None,
+                   allowed: tuple[str, ...]) -> tuple[str, ...]:
+    """The names of ``allowed`` that ``variables`` lists (all when None), in allowed's order.
+
+    Raises
+    ------
+    ConfigurationError
+        A name that is not in ``allowed`` (the message lists the allowed names).
+    """
+    if variables is None:
+        return tuple(allowed)
+    names = [variables] if isinstance(variables, str) else list(variables)
+    unknown = [k for k in names if k not in allowed]
+    if unknown:
+        raise ConfigurationError(
+            f"sol-air variable(s) {unknown} not available; allowed {list(allowed)}")
+    return tuple(k for k in allowed if k in names)
 
 
 def _secant(efs, efa, efg, tsky_k, ta_k, tg_k, t_ref_k, sigma):
@@ -298,18 +337,22 @@ def _canonical_shape(shape: tuple[int, ...]) -> tuple[int, int, int]:
 
 
 def _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, shape,
-                      surface, components):
+                      surface, wanted):
     """:func:`temp_sol_air` without ``conventional``, by one compiled pass (:func:`_balance_loop`).
 
     The ten checked inputs are broadcast (read-only views, no copies up to 3-D) to a
     canonical 3-D shape (:func:`_canonical_shape`); the kernel writes C-contiguous outputs
-    that are reshaped back to ``shape``. Every call uses the one compiled specialisation of
-    :func:`_balance_kernel`.
+    that are reshaped back to ``shape``; an output not in ``wanted`` gets a 0-size array,
+    which the kernel does not write (T_eq is still needed for the components). Every call
+    uses the one compiled specialisation of :func:`_balance_kernel`.
     """
     canon = _canonical_shape(shape)
     args = [np.broadcast_to(x, shape).reshape(canon)
             for x in (ta, g, a, e, hc, tsky, tg, fs, fa, fg)]
-    t, h_rad, h_e, r_se = (np.empty(canon) for _ in range(4))
+    comps = [k for k in ("h_rad_sky", "h_rad_air", "h_rad_ground") if k in wanted]
+    stored = set(wanted) | ({"temp_sol_air"} if comps and surface else set())
+    t, h_rad, h_e, r_se = (np.empty(canon if k in stored else (0, 0, 0))
+                           for k in ("temp_sol_air", "h_rad", "h_e", "r_se"))
     status, largest, where = _balance_kernel()(*args, float(sigma), float(tol), int(max_iter),
                                                bool(surface), t, h_rad, h_e, r_se)
     if status == _NO_EXCHANGE:
@@ -327,14 +370,14 @@ def _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_ite
         )
     out = {k: np.broadcast_to(v.reshape(np.shape(v) if v is hc else shape), shape)
            for k, v in (("temp_sol_air", t), ("h_rad", h_rad), ("h_e", h_e), ("h_conv", hc),
-                        ("r_se", r_se))}
-    if components:
-        t_ref_k = (out["temp_sol_air"] if surface else ta) + KELVIN
+                        ("r_se", r_se)) if k in wanted}
+    if comps:
+        t_ref_k = (t.reshape(shape) if surface else ta) + KELVIN
         hs, ha, hg = _secant(e * fs, e * fa, e * fg, tsky + KELVIN, ta + KELVIN, tg + KELVIN,
                              t_ref_k, sigma)
         out.update({k: np.broadcast_to(v, shape) for k, v in
-                    (("h_rad_sky", hs), ("h_rad_air", ha), ("h_rad_ground", hg))})
-    return out
+                    (("h_rad_sky", hs), ("h_rad_air", ha), ("h_rad_ground", hg)) if k in comps})
+    return {k: out[k] for k in OUTPUTS if k in out}
 
 
 #: Status codes of :func:`_balance_loop`.
@@ -380,13 +423,16 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
 
     Inputs are 3-D arrays of one shape (broadcast views) in °C, W m-2, W m-2 K-1 and [-];
     ``t_out`` [°C], ``h_rad_out``, ``h_e_out`` [W m-2 K-1] and ``r_se_out`` [m2 K W-1]
-    are written in place. Returns ``(status, largest last step [K], flat index)``:
+    are written in place; an output of size 0 is not written (not wanted). Returns
+    ``(status, largest last step [K], flat index)``:
     ``_NO_EXCHANGE`` at the first element whose h_e is below ``H_E_MIN``,
     ``_NOT_CONVERGED`` with the largest last step of the elements that did not converge
     in ``max_iter`` steps, ``_NOT_FINITE`` at the first element whose T_eq or Newton
     step overflows, else ``_OK``.
     """
-    n0, n1, n2 = t_out.shape
+    n0, n1, n2 = ta.shape
+    keep_t, keep_rad = t_out.size > 0, h_rad_out.size > 0
+    keep_e, keep_r = h_e_out.size > 0, r_se_out.size > 0
     status = _OK
     largest = 0.0
     # The factors of the coefficients that depend on the temperatures and view factors only
@@ -447,10 +493,14 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
                     if not h_e >= H_E_MIN:
                         return _NO_EXCHANGE, 0.0, (i * n1 + j) * n2 + k
                     t_eq = t - KELVIN
-                t_out[i, j, k] = t_eq
-                h_rad_out[i, j, k] = h_rad
-                h_e_out[i, j, k] = h_e
-                r_se_out[i, j, k] = 1.0 / h_e
+                if keep_t:
+                    t_out[i, j, k] = t_eq
+                if keep_rad:
+                    h_rad_out[i, j, k] = h_rad
+                if keep_e:
+                    h_e_out[i, j, k] = h_e
+                if keep_r:
+                    r_se_out[i, j, k] = 1.0 / h_e
     return status, largest, -1
 
 

@@ -184,7 +184,9 @@ def compare(
     names = [f.name for f in fins]
     alpha = xr.DataArray([f.absorptance for f in fins], dims="finish", coords={"finish": names})
     eps = xr.DataArray([f.emissivity for f in fins], dims="finish", coords={"finish": names})
-    sa = engine.sol_air(forcing, alpha, eps, linearisation=linearisation)
+    # only what is read below: h_rad and r_se would be two more full arrays nobody reads
+    sa = engine.sol_air(forcing, alpha, eps, linearisation=linearisation,
+                        variables=("temp_sol_air", "h_e", "h_conv"))
     dims = ("time", "surface", "finish")
     t_eq = sa["temp_sol_air"].transpose(*dims).values
     h_e = sa["h_e"].transpose(*dims).values

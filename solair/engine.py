@@ -448,6 +448,7 @@ def sol_air(
     emissivity,
     *,
     linearisation: str = "air",
+    variables: Iterable[str] | None = None,
 ) -> xr.Dataset:
     """Sol-air temperature, h_rad, h_e and R_se for given finish properties.
 
@@ -460,18 +461,23 @@ def sol_air(
         extra dimensions (e.g. ``finish``), which the result gains.
     linearisation : {"air", "surface"}
         Linearisation of the long-wave exchange (:func:`solair.balance.temp_sol_air`).
+    variables : iterable of str, optional
+        Those wanted of ``temp_sol_air``, ``h_conv``, ``h_rad``, ``h_e``, ``r_se`` (default
+        all); the others are not computed. The values returned are unchanged.
 
     Returns
     -------
     xarray.Dataset
-        ``temp_sol_air``, ``h_conv``, ``h_rad``, ``h_e``, ``r_se`` over
-        (time, surface, extra dims); with ``temp_sol_air_min/max`` when the
-        forcing holds the sky-model spread.
+        ``temp_sol_air``, ``h_conv``, ``h_rad``, ``h_e``, ``r_se`` (or the
+        ``variables`` asked for) over (time, surface, extra dims); with
+        ``temp_sol_air_min/max`` when the forcing holds the sky-model spread and
+        ``temp_sol_air`` is asked for.
     """
     if linearisation not in LINEARISATIONS:
         raise ConfigurationError(
             f"linearisation {linearisation!r} is not one of {sorted(LINEARISATIONS)}"
         )
+    wanted = balance.select_outputs(variables, ("temp_sol_air", "h_conv", "h_rad", "h_e", "r_se"))
     a = _as_property(absorptance, "absorptance", forcing)
     e = _as_property(emissivity, "emissivity", forcing)
     conventional = forcing.attrs.get("convection_model") == "iso6946_conventional"
@@ -487,30 +493,31 @@ def sol_air(
 
     ta, tg = on(f["temp_air"]), on(f["temp_ground"])
 
-    def run(temp_sky):
+    def run(temp_sky, outputs):
         return balance.temp_sol_air(
             ta, on(f["poa_global"]), on(a), on(e), on(f["h_conv"]), temp_sky, temp_ground=tg,
             view_sky=on(f["view_sky"]), view_air=on(f["view_air"]),
             view_ground=on(f["view_ground"]), linearisation=linearisation,
-            conventional=conventional, components=False,
+            conventional=conventional, variables=outputs,
         )
 
     shape = tuple(sizes[d] for d in dims)
-    res = run(on(f["temp_sky"]))
+    res = run(on(f["temp_sky"]), wanted)
     coords = {d: f[d] if d in f.coords else (a[d] if d in a.coords else e[d])
               for d in dims if d in f.coords or d in a.coords or d in e.coords}
     for c in ("surface_tilt", "surface_azimuth"):
         coords[c] = f[c]
     out = xr.Dataset(
         {k: (dims, np.broadcast_to(np.asarray(res[k], dtype=float), shape))
-         for k in ("temp_sol_air", "h_conv", "h_rad", "h_e", "r_se")},
+         for k in wanted},
         coords=coords,
     )
-    if "temp_sky_models" in f:
+    if "temp_sky_models" in f and "temp_sol_air" in wanted:
         lo = hi = None
         for model in f["sky_model"].values:
             ts = on(f["temp_sky_models"].sel(sky_model=model).drop_vars("sky_model"))
-            t = np.broadcast_to(np.asarray(run(ts)["temp_sol_air"], dtype=float), shape)
+            t = np.broadcast_to(np.asarray(run(ts, ("temp_sol_air",))["temp_sol_air"],
+                                           dtype=float), shape)
             lo = t if lo is None else np.minimum(lo, t)
             hi = t if hi is None else np.maximum(hi, t)
         out["temp_sol_air_min"] = (dims, lo)

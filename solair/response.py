@@ -36,10 +36,10 @@ from __future__ import annotations
 
 from typing import Any
 
-import numba
 import numpy as np
 
 from solair import conduction
+from solair._response_kernels import _all_hours, _compact, _full2d
 from solair.constructions import Construction, r_si
 from solair.errors import ConfigurationError
 
@@ -193,139 +193,6 @@ def _closure(e0, r0, ext, dew, hour, t_guess, water, dt, iterations):
         zero = np.zeros_like(t)
         return t, q, zero, zero
     return t, q, q_lat, q_lat / heat * dt
-
-
-def _compact(value, shape, name):
-    """Like :func:`_flat`, but an axis of size 1 stays 1: (1|time, 1|column), not the full
-    (time, column) shape (e.g. a constant or hourly indoor temperature)."""
-    arr = np.asarray(value, dtype=float)
-    if arr.ndim == 1 and len(shape) > 1 and arr.size == shape[0] and arr.size != shape[-1]:
-        arr = arr.reshape((shape[0],) + (1,) * (len(shape) - 1))
-    try:
-        np.broadcast_to(arr, shape)
-    except ValueError:
-        raise ConfigurationError(
-            f"surface response: {name} of shape {np.shape(value)} does not broadcast to {shape}"
-        ) from None
-    if not np.all(np.isfinite(arr)):
-        raise ConfigurationError(f"surface response: {name} holds NaN or infinite values")
-    padded = (1,) * (len(shape) - arr.ndim) + arr.shape
-    rows = padded[0]
-    if all(s == 1 for s in padded[1:]):
-        return _c2d(arr, (rows, 1))
-    cols = tuple(shape[1:])
-    return _c2d(np.broadcast_to(arr.reshape(padded), (rows,) + cols),
-                (rows, int(np.prod(cols, dtype=int))))
-
-
-def _full2d(value, shape):
-    """``value`` broadcast to ``shape`` as a C-contiguous float64 (time, column) array."""
-    arr = np.asarray(value, dtype=float)
-    if arr.shape != tuple(shape):
-        arr = np.broadcast_to(arr, shape)
-    return _c2d(arr, (shape[0], int(np.prod(shape[1:], dtype=int))))
-
-
-def _c2d(arr, shape2):
-    """``arr`` as a C-contiguous writable float64 2-D array (the one type the kernel takes)."""
-    out = np.reshape(arr, shape2)
-    if not (out.flags.c_contiguous and out.flags.writeable and out.dtype == np.float64):
-        out = np.array(out, dtype=np.float64, order="C")
-    return out
-
-
-# error_model="numpy": IEEE division (h_e = 0 is reported by the flags), no check per division
-@numba.njit(cache=True, error_model="numpy")
-def _k_all_hours(x, h, premultiplied, t_in, steady, resistance, h_inward, h_outward,
-                 out_t, out_q, out_qe):
-    """The closure of every (time, column) element, the loop's operations in its order.
-
-    Returns flags: 1 non-finite h_e, 2 h_e <= 0, 4 non-finite ``x``. U' is looked
-    up by the heat-flow direction (a table: a branch would mispredict at random).
-    """
-    n, m = x.shape
-    rt = 1 if t_in.shape[0] > 1 else 0
-    ct = 1 if t_in.shape[1] > 1 else 0
-    u_table = np.empty((m, 2))  # [outward, inward]
-    for j in range(m):
-        u_table[j, 0] = 1.0 / (resistance + 1.0 / h_outward[j])
-        u_table[j, 1] = 1.0 / (resistance + 1.0 / h_inward[j])
-    nan_h = nan_x = 0.0  # v * 0 is 0 for a finite v, NaN otherwise
-    h_min = np.inf
-    for i in range(n):
-        for j in range(m):
-            hh = h[i, j]
-            xx = x[i, j]
-            nan_h += hh * 0.0
-            nan_x += xx * 0.0
-            h_min = min(h_min, hh)
-            a = xx if premultiplied else hh * xx
-            if steady:
-                ti = t_in[i * rt, j * ct]
-                u = u_table[j, np.int64(a / hh > ti)]
-                r0 = u * ti
-                t = (r0 + a) / (u + hh)
-                out_q[i, j] = u * t - r0
-            else:
-                t = a / hh
-                out_q[i, j] = 0.0
-            out_t[i, j] = t
-            out_qe[i, j] = a - hh * t
-    return (1 if nan_h != nan_h else 0) | (2 if h_min <= 0.0 else 0) | (4 if nan_x != nan_x else 0)
-
-
-def _all_hours(x, h, premultiplied, t_in, model, resistance, tilt, r_inside, shape):
-    """Massless or steady response with the linear exterior and no dew, all hours at once.
-
-    Without storage and without condensate nothing couples one hour to the
-    next, so the hourly closure of the time loop is evaluated for the whole
-    (time, column) array in one compiled pass (:func:`_k_all_hours`), with the
-    same floating-point operations in the same order (the results are bit for
-    bit those of the loop, checked in ``tests/test_compare.py``).
-
-    The ISO 6946 R_si depends on the direction of the heat flow, which itself
-    depends on R_si only through the size of the flux: with the linear
-    exterior, T_s − T_i = h_e (T_eq − T_i) / (h_e + U'), whose sign is that of
-    T_eq − T_i for either candidate R_si. The self-consistent candidate of
-    every element is therefore the one picked by T_eq > T_i. Where
-    T_eq = T_i exactly, both candidates give q = 0 and T_s = T_i; the
-    outward (heat-loss) value is taken, as the stepped loop does.
-
-    ``x``, ``h``: T_eq [°C] (or A = h_e T_eq with ``premultiplied``) and h_e
-    [W m-2 K-1], C-contiguous float64 (time, column); ``t_in`` (1|time, 1|column) [°C].
-    """
-    n_time, ncol = x.shape
-    if model == "steady":
-        if r_inside is not None:
-            h_inward = h_outward = np.full(ncol, 1.0 / float(r_inside))
-        else:
-            h_inward = 1.0 / np.broadcast_to(r_si(tilt, True), (ncol,))
-            h_outward = 1.0 / np.broadcast_to(r_si(tilt, False), (ncol,))
-        r = float(resistance)
-    else:
-        h_inward = h_outward = np.ones(ncol)
-        r = 0.0
-    out_t = np.empty((n_time, ncol))
-    out_q = np.empty((n_time, ncol))
-    out_qe = np.empty((n_time, ncol))
-    bad = _k_all_hours(x, h, premultiplied, t_in, model == "steady", r, h_inward, h_outward,
-                       out_t, out_q, out_qe)
-    if bad and not premultiplied:  # in the order of the stepped path's checks
-        raise ConfigurationError("surface response: " + (
-            "h_ext holds NaN or infinite values" if bad & 1 else
-            "h_ext must be > 0 W m-2 K-1" if bad & 2 else
-            "temp_sol_air holds NaN or infinite values"))
-    return {
-        "temp_surface": out_t.reshape(shape),
-        "heat_flux": out_q.reshape(shape),
-        "heat_flux_exterior": out_qe.reshape(shape),
-        "latent_flux": np.zeros(shape),  # three calloc-ed arrays: no copy passes
-        "condensation": np.zeros(shape),
-        "condensate": np.zeros(shape),
-        "wet": np.zeros(shape, dtype=bool),
-        "energy": {},
-        "n_nodes": 0,
-    }
 
 
 def _initial_profile(grid, temp_out, temp_in, h_in):

@@ -356,3 +356,31 @@ def test_kernel_error_paths():
         with pytest.raises(ConfigurationError, match=r"overflows at element \(1,\)"):
             balance.temp_sol_air(20.0, np.array([100.0, 1e308]), 1.0, 1e-9, 1e-6, 5.0,
                                  **{**kw, "linearisation": lin})
+
+
+@pytest.mark.parametrize("lin", ["air", "surface"])
+@pytest.mark.parametrize("conventional", [False, True])
+@pytest.mark.parametrize("wanted", [("temp_sol_air", "h_e", "h_conv"), ("r_se",), ("h_rad",),
+                                    ("h_rad_air", "temp_sol_air"), ("h_rad_ground",)])
+def test_variables_subset_equals_full_call(lin, conventional, wanted):
+    """``variables`` returns exactly the outputs asked for, each equal to the full call's
+    (the compiled kernel then skips the stores of the others)."""
+    ta = np.array([-5.0, 12.0, 31.0])[:, None, None]
+    tsky = ta - np.array([18.0, 9.0, 3.0])[:, None, None]
+    g = np.array([0.0, 300.0, 850.0])[:, None, None] * np.array([1.0, 0.6])[None, :, None]
+    fs, fa, fg = (x[None, :, None] for x in longwave.view_factors(np.array([0.0, 90.0])))
+    alpha = np.array([0.2, 0.5, 0.95])[None, None, :]
+    kw = {"view_sky": fs, "view_air": fa, "view_ground": fg, "linearisation": lin,
+          "conventional": conventional}
+    full = balance.temp_sol_air(ta, g, alpha, 0.9, 10.0, tsky, **kw)
+    part = balance.temp_sol_air(ta, g, alpha, 0.9, 10.0, tsky, variables=wanted, **kw)
+    assert set(part) == set(wanted)
+    for key in wanted:
+        assert part[key].shape == (3, 2, 3)
+        assert_allclose(part[key], full[key], rtol=0, atol=0)
+
+
+def test_variables_unknown_name_lists_the_allowed_ones():
+    with pytest.raises(ConfigurationError, match=r"\['h_sky'\].*allowed.*'temp_sol_air'.*'r_se'"):
+        balance.temp_sol_air(20.0, 500.0, 0.5, 0.9, 10.0, 5.0, view_sky=1.0, view_air=0.0,
+                             view_ground=0.0, variables=("temp_sol_air", "h_sky"))

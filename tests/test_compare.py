@@ -354,3 +354,18 @@ def test_all_hours_rejects_bad_inputs(where, message):
         "h_nan": np.nan, "h_zero": 0.0, "t_eq_inf": np.inf, "t_in_nan": np.nan}[where]
     with pytest.raises(solair.ConfigurationError, match=message):
         resp.surface_response(t_eq, h_e, model="steady", resistance=0.5, temp_indoor=t_in)
+
+
+def test_all_hours_dry_outputs_keep_keys_shapes_and_zero_values():
+    """Without dew the water outputs of the all-hours path are zeros of the full shape (read-only
+    broadcast views of one zero, not full arrays), as the stepped loop's zero arrays."""
+    from solair import response as resp
+
+    t_eq = np.full((5, 2, 3), 30.0)
+    h_e = np.full((5, 2, 3), 18.0)
+    out = resp.surface_response(t_eq, h_e, model="steady", resistance=0.5, temp_indoor=20.0)
+    for k, dtype in (("latent_flux", float), ("condensation", float), ("condensate", float),
+                     ("wet", bool)):
+        assert out[k].shape == (5, 2, 3) and out[k].dtype == dtype
+        assert_allclose(out[k], np.zeros((5, 2, 3), dtype=dtype), rtol=0, atol=0)
+        assert not out[k].flags.writeable

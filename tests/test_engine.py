@@ -307,3 +307,25 @@ def test_clear_sky_estimate_skipped_when_no_hour_needs_it(greensboro_weather, mo
                                  greensboro_weather.data.drop(columns=["opaque_sky_cover"]))
     ds = engine.exterior_forcing(w, s)
     assert calls and ds.attrs["sky_source_hours_irradiance_cloud_estimate"] == 8760
+
+
+@pytest.mark.parametrize("lin", ["air", "surface"])
+def test_sol_air_variables_subset_equals_full_call(greensboro_weather, lin):
+    """``variables`` gives a Dataset of those variables only, identical to the full call's."""
+    surfaces = [Surface("roof", 0, 180), Surface("W", 90, 270)]
+    forcing = solair.exterior_forcing(greensboro_weather, surfaces)
+    alpha = xr.DataArray([0.2, 0.9], dims="finish", coords={"finish": ["w", "b"]})
+    full = engine.sol_air(forcing, alpha, 0.9, linearisation=lin)
+    part = engine.sol_air(forcing, alpha, 0.9, linearisation=lin,
+                          variables=["h_e", "temp_sol_air", "h_conv"])
+    assert list(part.data_vars) == ["temp_sol_air", "h_conv", "h_e"]
+    xr.testing.assert_identical(part, full[["temp_sol_air", "h_conv", "h_e"]])
+    only = engine.sol_air(forcing, alpha, 0.9, linearisation=lin, variables="r_se")
+    assert_allclose(only["r_se"].values, full["r_se"].values, rtol=0, atol=0)
+
+
+def test_sol_air_unknown_variable_lists_the_allowed_ones(greensboro_weather):
+    forcing = solair.exterior_forcing(greensboro_weather, [Surface("roof", 0, 180)])
+    with pytest.raises(ConfigurationError,
+                       match=r"\['h_rad_sky'\].*allowed.*'temp_sol_air', 'h_conv'"):
+        engine.sol_air(forcing, 0.5, 0.9, variables=("h_e", "h_rad_sky"))
