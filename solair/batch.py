@@ -195,7 +195,7 @@ def _write_netcdf(ds, path: Path, dtype: str = "float64") -> None:
     import dask
     import numpy as np
 
-    from solair.output import write_netcdf_h5py
+    from solair.netcdf_h5py import write_netcdf_h5py
 
     encoding = {name: {"dtype": dtype} for name, var in ds.data_vars.items()
                 if np.issubdtype(var.dtype, np.floating) and dtype != "float64"}

@@ -168,7 +168,8 @@ def test_h5py_writer_reads_back_identical_to_xarrays_writer(greensboro_path, tmp
     read back with ``xarray.open_dataset`` both must be identical (values, attrs, encodings).
     """
     from solair.compare import compare
-    from solair.output import _netcdf_ready, write_netcdf_h5py
+    from solair.netcdf_h5py import write_netcdf_h5py
+    from solair.output import _netcdf_ready
 
     weather = solair.read_weather(greensboro_path)
     ds, _ = compare(weather, [Surface("roof", 0, 0), Surface("south", 90, 180)],
@@ -213,7 +214,8 @@ def test_h5py_writer_attribute_types_match_xarrays_writer(greensboro_path, tmp_p
     length of ``_NCProperties`` holds the writer's name, so only its size may differ).
     """
     from solair.compare import compare
-    from solair.output import _netcdf_ready, write_netcdf_h5py
+    from solair.netcdf_h5py import write_netcdf_h5py
+    from solair.output import _netcdf_ready
 
     weather = solair.read_weather(greensboro_path)
     ds, _ = compare(weather, [Surface("roof", 0, 0), Surface("south", 90, 180)],
@@ -237,7 +239,7 @@ def test_h5py_writer_attribute_types_match_xarrays_writer(greensboro_path, tmp_p
 def test_h5py_writer_rejects_attributes_netcdf_cannot_hold(result, tmp_path):
     """A dict attribute is a TypeError naming the attribute; a dimension without coordinate is
     a ConfigurationError (behaviour of the h5py writer kept by the low-level attribute path)."""
-    from solair.output import write_netcdf_h5py
+    from solair.netcdf_h5py import write_netcdf_h5py
 
     ds = xr.Dataset({"x": ("time", np.arange(3.0))}, coords={"time": np.arange(3)})
     ds.attrs["bad"] = {"a": 1}
