@@ -211,6 +211,9 @@ def test_read_weather_fast_path_year_unchanged(greensboro_path):
     ("-1.23456789012345", True), ("1234567890123456", False), ("1.", False), (".5", False),
     ("-.5", False), ("1e5", False), ("+1", False), ("--1", False), ("1.2.3", False),
     ("-", False), ("1-2", False), ("NA", False), ("A", False),
+    # the compiled parse (solair.weather._fast_kernels): widths, signs and points at the edges
+    ("-0.00000000000001", True), ("0.00000000000000001", False), ("", False), ("0.", False),
+    ("-0.5", True), ("1.0.", False), ("12-", False), ("1/2", False), ("7:00", False),
 ])
 def test_fast_number_parse_is_pandas_bit_for_bit_or_steps_aside(text, accepted):
     # Reference: pandas.read_csv's C parser (the one behind pvlib's readers). A plain decimal

@@ -11,9 +11,9 @@ file in about ten milliseconds:
   header's number of commas;
 * the date, time, month, day and hour fields are read from fixed byte positions
   between those commas (two digits each, as the formats write them);
-* the numeric fields are parsed from those byte positions with numpy, one byte
-  position of every field at a time; only plain decimals ``-?D+(.D+)?`` of up to 15
-  digits are accepted, for which the digits' integer divided by an exact power of
+* the numeric fields are parsed from those byte positions by a compiled loop
+  (:mod:`solair.weather._fast_kernels`, numba); only plain decimals ``-?D+(.D+)?``
+  of up to 15 digits are accepted, for which the digits' integer divided by an exact power of
   ten is what pandas' C parser behind pvlib's readers computes (bit-identical
   values, at half the time of a ``pandas.read_csv`` call that tokenises every column);
 * the conditions under which pvlib's own parse would fail (time zone, TMY3 USAF
@@ -49,10 +49,8 @@ __all__ = ["split_head", "epw_body", "tmy3_body"]
 _ALLOWED = (string.digits + string.ascii_letters + ".-+,?*/:\n").encode("ascii")
 _DAYS = np.array([0, 31, 29, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31])
 _ZERO, _SLASH, _COLON, _QUERY = ord("0"), ord("/"), ord(":"), ord("?")
-_MINUS, _DOT = ord("-"), ord(".")
 #: longest number field and most digits the fast parse accepts (15 digits are exact)
 _MAX_WIDTH, _MAX_DIGITS = 17, 15
-_POW10 = np.array([float(10**k) for k in range(_MAX_DIGITS + 1)])  # exact
 
 
 def split_head(text: str, n: int) -> tuple[list[str], str] | None:
@@ -126,34 +124,12 @@ class _Block:
         e = self.commas[:, np.where(last_field, 0, cols)]
         e[:, last_field] = self.ends[:, None]
         s, w = s.ravel(), (e - s).ravel()
-        if not len(s) or w.min() < 1 or w.max() > _MAX_WIDTH:
+        if not len(s):
             return None
-        a, n = self.a, len(s)
-        neg = a[s] == _MINUS
-        mant = np.zeros(n, dtype=np.int64)
-        ndig = np.zeros(n, dtype=np.int8)
-        ndec = np.zeros(n, dtype=np.int8)
-        point = np.zeros(n, dtype=bool)
-        bad = np.zeros(n, dtype=bool)
-        for j in range(int(w.max())):  # one byte position of every field at a time
-            inside = j < w
-            d = np.take(a, s + j, mode="clip")
-            d -= np.uint8(_ZERO)  # wraps: a digit is d <= 9
-            isd = inside & (d <= 9)
-            isdot = inside & (d == np.uint8((_DOT - _ZERO) % 256))
-            other = inside & ~isd & ~isdot
-            if j == 0:
-                other &= ~neg
-            bad |= other | (isdot & (point | (ndig == 0)))
-            mant = mant * (isd * np.int64(9) + 1) + d * isd  # arithmetic, no branches
-            ndec += isd & point
-            ndig += isd
-            point |= isdot
-        if bad.any() or (ndig < 1).any() or (ndig > _MAX_DIGITS).any() or (
-                point & (ndec == 0)).any():
-            return None
-        v = mant.astype(np.float64) / _POW10[ndec]
-        return np.where(neg, -v, v).reshape(-1, len(columns))
+        from solair.weather._fast_kernels import plain_decimals
+
+        v = plain_decimals(self.a, s, w, _MAX_WIDTH, _MAX_DIGITS)
+        return None if v is None else v.reshape(-1, len(columns))
 
 
 def _block(body: str, nfields: int) -> _Block | None:
