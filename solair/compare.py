@@ -224,9 +224,10 @@ def compare(
         exterior=exterior, balance=balance_inputs, dew=dew_inputs, substeps=substeps,
     )
 
-    coords = {"time": forcing["time"], "surface": forcing["surface"], "finish": names,
+    coords = {"time": forcing["time"], "surface": forcing["surface"],
               "surface_tilt": forcing["surface_tilt"],
               "surface_azimuth": forcing["surface_azimuth"],
+              "finish": ("finish", names, {"long_name": "exterior finish"}),
               "absorptance": ("finish", alpha.values, {"units": "1",
                               "long_name": "solar absorptance of the finish"}),
               "emissivity": ("finish", eps.values, {"units": "1",
@@ -239,16 +240,7 @@ def compare(
     if dew:
         data.update(latent_flux=res["latent_flux"], condensation=res["condensation"],
                     condensate=res["condensate"])
-    ds = xr.Dataset({k: (dims, v) for k, v in data.items()}, coords=coords)
-    for k in ds.data_vars:
-        units, long_name = _VARS[k]
-        ds[k].attrs.update(units=units, long_name=long_name)
-    # the air and its dew point, once per hour, for carpets of the excess over the air
-    # (`solair plot --minus-air`) and dew-point checks from the hourly file alone
-    for k, (units, long_name, standard_name) in _AIR_VARS.items():
-        ds[k] = ("time", np.asarray(forcing[k].values, dtype=float),
-                 {"units": units, "long_name": long_name, "standard_name": standard_name})
-    ds["finish"].attrs["long_name"] = "exterior finish"
+    ds = _dataset(data, coords, forcing, dims)
     notes = [f"{f.name}: {f.note}" for f in fins if f.note]
     if any(f.indicative for f in fins):
         notes.append(EVAPOTRANSPIRATION_NOTE)
@@ -322,6 +314,28 @@ def compare(
     df.attrs.update({"caution": CAUTION, "notes": ds.attrs["notes"],
                      "response_model": response, "construction": ds.attrs["construction"]})
     return ds, df
+
+
+def _dataset(data: dict[str, np.ndarray], coords: dict[str, Any], forcing: xr.Dataset,
+             dims: tuple[str, ...]) -> xr.Dataset:
+    """The hourly result: ``data`` over ``dims`` with their units, the coordinates, then the
+    air and its dew point, once per hour (for carpets of the excess over the air,
+    ``solair plot --minus-air``, and dew-point checks from the hourly file alone).
+
+    Built in one construction, in the variable order of the earlier step-by-step build
+    (result variables, coordinates, air variables); ``ds[k] = ...`` would merge each anew.
+    """
+    variables: dict[str, Any] = {
+        k: xr.Variable(dims, v, {"units": _VARS[k][0], "long_name": _VARS[k][1]})
+        for k, v in data.items()}
+    variables.update({k: c.variable if isinstance(c, xr.DataArray) else xr.Variable(*c)
+                      for k, c in coords.items()})
+    for k, (units, long_name, standard_name) in _AIR_VARS.items():
+        variables[k] = xr.Variable("time", np.asarray(forcing[k].values, dtype=float),
+                                   {"units": units, "long_name": long_name,
+                                    "standard_name": standard_name})
+    # all passed as coordinates (which keep their order), then the results made data again
+    return xr.Dataset(coords=variables).reset_coords([k for k in variables if k not in coords])
 
 
 def _finish_note(f: Finish) -> str:

@@ -105,6 +105,21 @@ def test_result_contract(result):
     assert (ds["condensate"].values >= 0).all()
 
 
+def test_hourly_result_variable_order(result):
+    # the order the NetCDF writers store the variables in: results, coordinates, the air
+    ds, _ = result
+    assert list(ds.variables) == [
+        "temp_surface", "heat_flux", "heat_flux_exterior", "temp_sol_air", "h_e",
+        "latent_flux", "condensation", "condensate", "time", "surface", "surface_tilt",
+        "surface_azimuth", "finish", "absorptance", "emissivity", "sri", "temp_air",
+        "temp_dew"]
+    assert list(ds.coords) == ["time", "surface", "surface_tilt", "surface_azimuth", "finish",
+                               "absorptance", "emissivity", "sri"]
+    assert list(ds.indexes) == ["time", "surface", "finish"]
+    assert ds["finish"].attrs == {"long_name": "exterior finish"}
+    assert list(ds["temp_surface"].attrs) == ["units", "long_name"]
+
+
 def test_hourly_result_holds_air_and_dew_point(result, greensboro_weather):
     """temp_air and temp_dew (time only, CF standard names) are the weather file's hours.
 
