@@ -66,38 +66,61 @@ def _all_hours_loop(x, h, premultiplied, t_in, steady, resistance, h_inward, h_o
                     out_t, out_q, out_qe):
     """The closure of every (time, column) element, the loop's operations in its order.
 
-    Returns flags: 1 non-finite h_e, 2 h_e <= 0, 4 non-finite ``x``. U' is looked
-    up by the heat-flow direction (a table: a branch would mispredict at random).
+    Returns flags: 1 non-finite h_e, 2 h_e <= 0, 4 non-finite ``x``. U' is picked by the
+    heat-flow direction with a select, not a branch (which would mispredict at random).
+    The checks accumulate per column and the indoor temperature is read from a row buffer,
+    so the column loop (innermost, contiguous) has no loop-carried scalar and vectorises.
     """
     n, m = x.shape
     rt = 1 if t_in.shape[0] > 1 else 0
     ct = 1 if t_in.shape[1] > 1 else 0
-    u_table = np.empty((m, 2))  # [outward, inward]
+    u_out = np.empty(m)
+    u_in = np.empty(m)
     for j in range(m):
-        u_table[j, 0] = 1.0 / (resistance + 1.0 / h_outward[j])
-        u_table[j, 1] = 1.0 / (resistance + 1.0 / h_inward[j])
-    nan_h = nan_x = 0.0  # v * 0 is 0 for a finite v, NaN otherwise
-    h_min = np.inf
+        u_out[j] = 1.0 / (resistance + 1.0 / h_outward[j])
+        u_in[j] = 1.0 / (resistance + 1.0 / h_inward[j])
+    nan_h = np.zeros(m)  # v * 0 is 0 for a finite v, NaN otherwise
+    nan_x = np.zeros(m)
+    low_h = np.zeros(m, dtype=np.int64)  # count of h_e <= 0
+    ti_row = np.empty(m)
+    row = -1  # the row of t_in in ti_row
     for i in range(n):
-        for j in range(m):
-            hh = h[i, j]
-            xx = x[i, j]
-            nan_h += hh * 0.0
-            nan_x += xx * 0.0
-            h_min = min(h_min, hh)
-            a = xx if premultiplied else hh * xx
-            if steady:
-                ti = t_in[i * rt, j * ct]
-                u = u_table[j, np.int64(a / hh > ti)]
+        if steady:
+            if i * rt != row:
+                row = i * rt
+                for j in range(m):
+                    ti_row[j] = t_in[row, j * ct]
+            for j in range(m):
+                hh = h[i, j]
+                xx = x[i, j]
+                nan_h[j] += hh * 0.0
+                nan_x[j] += xx * 0.0
+                low_h[j] += hh <= 0.0
+                a = xx if premultiplied else hh * xx
+                ti = ti_row[j]
+                u = u_in[j] if a / hh > ti else u_out[j]
                 r0 = u * ti
                 t = (r0 + a) / (u + hh)
                 out_q[i, j] = u * t - r0
-            else:
+                out_t[i, j] = t
+                out_qe[i, j] = a - hh * t
+        else:
+            for j in range(m):
+                hh = h[i, j]
+                xx = x[i, j]
+                nan_h[j] += hh * 0.0
+                nan_x[j] += xx * 0.0
+                low_h[j] += hh <= 0.0
+                a = xx if premultiplied else hh * xx
                 t = a / hh
                 out_q[i, j] = 0.0
-            out_t[i, j] = t
-            out_qe[i, j] = a - hh * t
-    return (1 if nan_h != nan_h else 0) | (2 if h_min <= 0.0 else 0) | (4 if nan_x != nan_x else 0)
+                out_t[i, j] = t
+                out_qe[i, j] = a - hh * t
+    flags = 0
+    for j in range(m):
+        flags |= ((1 if nan_h[j] != nan_h[j] else 0) | (2 if low_h[j] > 0 else 0)
+                  | (4 if nan_x[j] != nan_x[j] else 0))
+    return flags
 
 
 @functools.cache

@@ -382,6 +382,8 @@ def _compiled_balance(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_ite
 
 #: Status codes of :func:`_balance_loop`.
 _OK, _NO_EXCHANGE, _NOT_CONVERGED, _NOT_FINITE = 0, 1, 2, 3
+#: Elements per Newton block of :func:`_balance_loop`.
+_BLOCK = 256
 
 
 def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, surface,
@@ -410,7 +412,11 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
 
     (temperatures in K). The right side is convex and increasing in T > 0, so Newton
     converges from any positive start (monotonically after the first step); an element
-    stops once its step is at most ``tol`` [K]. At the root T the secant coefficients sum to
+    stops once its step is at most ``tol`` [K]. The steps run on blocks of ``_BLOCK``
+    elements at once (a sweep over the block per step, an element's T moved only while it
+    iterates), so each element takes exactly the steps of its own loop while the sweep,
+    free of a branch per element, vectorises across the block.
+    At the root T the secant coefficients sum to
 
     .. math::
 
@@ -433,15 +439,29 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
     n0, n1, n2 = ta.shape
     keep_t, keep_rad = t_out.size > 0, h_rad_out.size > 0
     keep_e, keep_r = h_e_out.size > 0, r_se_out.size > 0
+    t_flat, rad_flat = t_out.reshape(t_out.size), h_rad_out.reshape(h_rad_out.size)
+    e_flat, r_flat = h_e_out.reshape(h_e_out.size), r_se_out.reshape(r_se_out.size)
+    total = n0 * n1 * n2
+    nb = min(_BLOCK, total)
+    # one block of elements (flat C order) for Newton: start/iterate T, q0, esf, h_c, the
+    # Horner factors of h_rad, the last step and whether the element still iterates
+    t_b, q0_b, esf_b, hc_b = np.empty(nb), np.empty(nb), np.empty(nb), np.empty(nb)
+    sig_b, f_b, p1_b, p2_b, p3_b = (np.empty(nb), np.empty(nb), np.empty(nb), np.empty(nb),
+                                    np.empty(nb))
+    step_b = np.empty(nb)
+    act_b = np.empty(nb, dtype=np.bool_)
     status = _OK
     largest = 0.0
     # The factors of the coefficients that depend on the temperatures and view factors only
     # repeat along a trailing finish axis: they are recomputed only when those inputs change.
     ta_c = tsky_c = tg_c = s = f_a = f_g = math.nan  # the previous element's
     ta_k = f_sum = a_sky = a_air = a_gnd = l_4 = p_1 = p_2 = p_3 = 0.0
+    m = 0  # elements in the block
     for i in range(n0):
         for j in range(n1):
             for k in range(n2):
+                at = (i * n1 + j) * n2 + k
+                bad = _OK
                 if not (ta[i, j, k] == ta_c and tsky[i, j, k] == tsky_c and tg[i, j, k] == tg_c
                         and fs[i, j, k] == s and fa[i, j, k] == f_a and fg[i, j, k] == f_g):
                     ta_c, tsky_c, tg_c = ta[i, j, k], tsky[i, j, k], tg[i, j, k]
@@ -466,41 +486,75 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
                 h_s, h_g = (ev * s) * a_sky, (ev * f_g) * a_gnd
                 h_rad = h_s + (ev * f_a) * a_air + h_g
                 h_e = h_rad + h_c
-                if not h_e >= H_E_MIN:
-                    return _NO_EXCHANGE, 0.0, (i * n1 + j) * n2 + k
                 t_eq = (h_s * (tsky_c - ta_c) + h_g * (tg_c - ta_c) + ag) / h_e + ta_c
-                if not math.isfinite(t_eq):
-                    return _NOT_FINITE, 0.0, (i * n1 + j) * n2 + k
-                if surface:
-                    t = max(t_eq + KELVIN, 1.0)
+                if not h_e >= H_E_MIN:
+                    bad = _NO_EXCHANGE
+                elif not math.isfinite(t_eq):
+                    bad = _NOT_FINITE
+                elif not surface:
+                    if keep_t:
+                        t_flat[at] = t_eq
+                    if keep_rad:
+                        rad_flat[at] = h_rad
+                    if keep_e:
+                        e_flat[at] = h_e
+                    if keep_r:
+                        r_flat[at] = 1.0 / h_e
+                else:  # the element joins the block of Newton's iteration
                     sig_e = sigma * ev
-                    esf = sig_e * f_sum
-                    q0 = ag + h_c * ta_k + sig_e * l_4
-                    step = math.inf
+                    t_b[m] = max(t_eq + KELVIN, 1.0)
+                    esf_b[m] = sig_e * f_sum
+                    q0_b[m] = ag + h_c * ta_k + sig_e * l_4
+                    hc_b[m] = h_c
+                    sig_b[m], f_b[m], p1_b[m], p2_b[m], p3_b[m] = sig_e, f_sum, p_1, p_2, p_3
+                    m += 1
+                if m > 0 and (m == nb or bad != _OK or at == total - 1):
+                    # Newton's steps for the whole block at once, each element's own
+                    # sequence: a step moves T only while the element iterates (it stops after
+                    # its first step of at most tol), so every element takes exactly the steps
+                    # of a loop of its own; with no branch per element the sweep vectorises.
+                    f0 = at + 1 - m if bad == _OK else at - m  # flat index of the first
+                    for b in range(m):
+                        act_b[b] = True
+                        step_b[b] = math.inf
                     for _ in range(max_iter):
-                        t3 = t * t * t * esf  # esf T^3
-                        step = (q0 - (t3 + h_c) * t) / (4.0 * t3 + h_c)
-                        t += step
-                        if abs(step) <= tol:
+                        n_act = 0
+                        for b in range(m):
+                            t = t_b[b]
+                            t3 = t * t * t * esf_b[b]  # esf T^3
+                            h_c = hc_b[b]
+                            step = (q0_b[b] - (t3 + h_c) * t) / (4.0 * t3 + h_c)
+                            go = act_b[b]
+                            t_b[b] = t + step if go else t
+                            step_b[b] = step if go else step_b[b]
+                            go = go and not abs(step) <= tol
+                            act_b[b] = go
+                            n_act += go
+                        if n_act == 0:
                             break
-                    else:
-                        if not math.isfinite(step):  # h_e > 0 here, so T^4 overflowed
-                            return _NOT_FINITE, 0.0, (i * n1 + j) * n2 + k
-                        status = _NOT_CONVERGED
-                        largest = max(largest, abs(step))
-                    h_rad = (((f_sum * t + p_1) * t + p_2) * t + p_3) * sig_e
-                    h_e = h_rad + h_c
-                    if not h_e >= H_E_MIN:
-                        return _NO_EXCHANGE, 0.0, (i * n1 + j) * n2 + k
-                    t_eq = t - KELVIN
-                if keep_t:
-                    t_out[i, j, k] = t_eq
-                if keep_rad:
-                    h_rad_out[i, j, k] = h_rad
-                if keep_e:
-                    h_e_out[i, j, k] = h_e
-                if keep_r:
-                    r_se_out[i, j, k] = 1.0 / h_e
+                    for b in range(m):
+                        if act_b[b]:  # max_iter steps, the last one above tol
+                            step = step_b[b]
+                            if not math.isfinite(step):  # h_e > 0 here, so T^4 overflowed
+                                return _NOT_FINITE, 0.0, f0 + b
+                            status = _NOT_CONVERGED
+                            largest = max(largest, abs(step))
+                        t = t_b[b]
+                        h_rad = (((f_b[b] * t + p1_b[b]) * t + p2_b[b]) * t + p3_b[b]) * sig_b[b]
+                        h_e = h_rad + hc_b[b]
+                        if not h_e >= H_E_MIN:
+                            return _NO_EXCHANGE, 0.0, f0 + b
+                        if keep_t:
+                            t_flat[f0 + b] = t - KELVIN
+                        if keep_rad:
+                            rad_flat[f0 + b] = h_rad
+                        if keep_e:
+                            e_flat[f0 + b] = h_e
+                        if keep_r:
+                            r_flat[f0 + b] = 1.0 / h_e
+                    m = 0
+                if bad != _OK:
+                    return bad, 0.0, at
     return status, largest, -1
 
 
@@ -510,7 +564,9 @@ def _balance_kernel():
 
     The one signature takes every input as a read-only 'A'-layout array (broadcast views;
     C, F and writable arrays convert to it) and C-contiguous outputs; compiling other
-    specialisations at call time is disabled. numba is imported here, on first use, so that
+    specialisations at call time is disabled. ``error_model="numpy"``: IEEE division
+    (h_e = 0 and an overflowed step are reported by the status), no check per division,
+    so the Newton sweep vectorises. numba is imported here, on first use, so that
     importing this module stays cheap; ``cache=True`` keeps the machine code on disk.
     """
     import numba
@@ -518,7 +574,7 @@ def _balance_kernel():
 
     ro = types.Array(types.float64, 3, "A", readonly=True)
     out = types.Array(types.float64, 3, "C")
-    kernel = numba.njit(cache=True)(_balance_loop)
+    kernel = numba.njit(cache=True, error_model="numpy")(_balance_loop)
     kernel.compile((ro,) * 10 + (types.float64, types.float64, types.int64, types.boolean)
                    + (out,) * 4)
     kernel.disable_compile()

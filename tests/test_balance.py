@@ -384,3 +384,28 @@ def test_variables_unknown_name_lists_the_allowed_ones():
     with pytest.raises(ConfigurationError, match=r"\['h_sky'\].*allowed.*'temp_sol_air'.*'r_se'"):
         balance.temp_sol_air(20.0, 500.0, 0.5, 0.9, 10.0, 5.0, view_sky=1.0, view_air=0.0,
                              view_ground=0.0, variables=("temp_sol_air", "h_sky"))
+
+
+def test_kernel_blocks_equal_one_element_calls_and_name_the_failing_element():
+    # the kernel iterates Newton on blocks of balance._BLOCK elements at once; more than two
+    # blocks of mixed inputs (each element needing its own number of steps) give the values
+    # of one call per element (the same steps: identical), and an element without exchange
+    # in the middle of a later block is the one named, as element by element
+    rng = np.random.default_rng(11)
+    n = 2 * balance._BLOCK + 37
+    kw = {"temp_air": rng.uniform(-30, 45, n), "poa_global": rng.uniform(0, 1100, n),
+          "absorptance": rng.uniform(0, 1, n), "emissivity": rng.uniform(0.05, 0.95, n),
+          "h_conv": rng.uniform(0.5, 40, n), "temp_sky": rng.uniform(-60, 20, n)}
+    out = balance.temp_sol_air(**kw, **HORIZONTAL, linearisation="surface")
+    for idx in (0, 1, balance._BLOCK - 1, balance._BLOCK, n - 1):
+        one = balance.temp_sol_air(**{k: v[idx] for k, v in kw.items()}, **HORIZONTAL,
+                                   linearisation="surface")
+        for key in ("temp_sol_air", "h_rad", "h_e", "r_se"):
+            assert_allclose(out[key][idx], one[key], rtol=0, atol=0)
+    at = balance._BLOCK + 100
+    eps, hc = kw["emissivity"].copy(), kw["h_conv"].copy()
+    eps[at], hc[at] = 0.0, 0.0
+    for lin in ("air", "surface"):
+        with pytest.raises(ConfigurationError, match=rf"below 1e-06 .* at element \({at},\)"):
+            balance.temp_sol_air(**{**kw, "emissivity": eps, "h_conv": hc}, **HORIZONTAL,
+                                 linearisation=lin)
