@@ -25,7 +25,7 @@ import pandas as pd
 import pvlib
 import xarray as xr
 
-from solair import balance, longwave, sun
+from solair import balance, irradiance, longwave, sun
 from solair import convection as _convection
 from solair import sky as _sky
 from solair.errors import ConfigurationError
@@ -106,7 +106,7 @@ def check_options(
     """Raise ConfigurationError for an unknown model name, listing the allowed ones."""
     checks = (
         ("sky model", sky, sky_models()),
-        ("transposition model", transposition, sun.TRANSPOSITION_MODELS),
+        ("transposition model", transposition, irradiance.TRANSPOSITION_MODELS),
         ("convection model", convection_model, _convection.CONVECTION_MODELS),
         ("linearisation", linearisation, LINEARISATIONS),
         ("terrain", terrain, TERRAINS),
@@ -287,17 +287,17 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
     if albedo_fixed is not None:
         alb, albedo_source = albedo_fixed, f"user value {albedo_fixed:g}"
     elif file_albedo is not None:
-        alb = np.where(np.isfinite(file_albedo), file_albedo, sun.DEFAULT_ALBEDO)
-        albedo_source = f"weather file (missing hours {sun.DEFAULT_ALBEDO:g})"
+        alb = np.where(np.isfinite(file_albedo), file_albedo, irradiance.DEFAULT_ALBEDO)
+        albedo_source = f"weather file (missing hours {irradiance.DEFAULT_ALBEDO:g})"
     else:
-        alb, albedo_source = sun.DEFAULT_ALBEDO, f"default {sun.DEFAULT_ALBEDO:g}"
+        alb, albedo_source = irradiance.DEFAULT_ALBEDO, f"default {irradiance.DEFAULT_ALBEDO:g}"
 
     tilt = np.array([s.surface_tilt for s in surfaces])
     azim = np.array([s.surface_azimuth for s in surfaces])
     dni_extra = np.asarray(pvlib.irradiance.get_extra_radiation(_day_of_year(geom.time)))
     with np.errstate(invalid="ignore"):
         airmass = pvlib.atmosphere.get_relative_airmass(zen)
-    poa = sun.plane_of_array(
+    poa = irradiance.plane_of_array(
         tilt, azim, zen, geom.azimuth, get["dni"], get["ghi"], get["dhi"],
         model=transposition, albedo=alb, dni_extra=dni_extra, airmass=airmass,
     )

@@ -594,8 +594,8 @@ def _allowed_models() -> dict[str, frozenset[str]]:
     from solair.balance import LINEARISATIONS
     from solair.convection import CONVECTION_MODELS
     from solair.engine import sky_models
+    from solair.irradiance import TRANSPOSITION_MODELS
     from solair.response import EXTERIOR_MODELS, RESPONSE_MODELS
-    from solair.sun import TRANSPOSITION_MODELS
 
     return {
         "sky": sky_models(),

@@ -136,9 +136,9 @@ def test_help_documents_every_option_and_imports_nothing_heavy():
 
 
 def test_cli_choices_match_the_library():
-    from solair import balance, convection, sky, sun
+    from solair import balance, convection, irradiance, sky
 
     assert set(run_cmd.SKY_CHOICES) == {"auto", "infrared", *sky.CLEAR_SKY_MODELS}
-    assert set(run_cmd.TRANSPOSITION_CHOICES) == set(sun.TRANSPOSITION_MODELS)
+    assert set(run_cmd.TRANSPOSITION_CHOICES) == set(irradiance.TRANSPOSITION_MODELS)
     assert set(run_cmd.CONVECTION_CHOICES) == set(convection.CONVECTION_MODELS)
     assert set(run_cmd.LINEARISATION_CHOICES) == set(balance.LINEARISATIONS)

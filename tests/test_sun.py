@@ -8,7 +8,7 @@ import pvlib
 import pytest
 from numpy.testing import assert_allclose
 
-from solair import sun
+from solair import irradiance, sun
 from solair.errors import ConfigurationError
 
 
@@ -71,7 +71,7 @@ def test_iso_52010_1_validation_row_denver_day1_hour12():
     dni, dhi = np.array([933.0]), np.array([65.0])
     ghi = dhi + dni * np.cos(np.radians(g.apparent_zenith))
     iso_azimuth = np.array([90.0, -90.0, 0.0, 45.0])
-    poa = sun.plane_of_array(
+    poa = irradiance.plane_of_array(
         [90.0, 90.0, 0.0, 30.0], 180.0 - iso_azimuth, g.apparent_zenith, g.azimuth, dni, ghi, dhi,
         model="perez", albedo=0.2,
         dni_extra=pvlib.irradiance.get_extra_radiation(1.0 + 18.5 / 24.0),
@@ -92,7 +92,7 @@ def test_poa_single_call_equals_per_surface_pvlib_loop(greensboro_weather):
         airmass = pvlib.atmosphere.get_relative_airmass(g.apparent_zenith)
     dni = np.where(g.apparent_zenith < 90, df["dni"].to_numpy(), 0.0)
     for model in ("perez", "isotropic", "haydavies"):
-        one = sun.plane_of_array(
+        one = irradiance.plane_of_array(
             tilts, azims, g.apparent_zenith, g.azimuth, df["dni"], df["ghi"], df["dhi"],
             model=model, albedo=0.2, dni_extra=dni_extra.to_numpy(), airmass=airmass,
         )
@@ -121,7 +121,7 @@ def test_perez_nan_and_twilight_hours_fall_back_to_isotropic_diffuse():
     ghi = dhi + dni * np.clip(np.cos(np.radians(zen)), 0, None)
     with np.errstate(invalid="ignore"):
         am = pvlib.atmosphere.get_relative_airmass(zen)
-    out = sun.plane_of_array([0.0, 90.0], [180.0, 270.0], zen, sazi, dni, ghi, dhi,
+    out = irradiance.plane_of_array([0.0, 90.0], [180.0, 270.0], zen, sazi, dni, ghi, dhi,
                              model="perez", albedo=0.2, dni_extra=np.full(3, 1400.0), airmass=am)
     assert np.all(np.isfinite(out["poa_global"]))
     assert_allclose(out["poa_sky_diffuse"][0], [12.0, 6.0])  # isotropic, both surfaces
@@ -166,7 +166,7 @@ def test_no_beam_hour_has_the_sun_below_the_horizon(greensboro_weather):
     assert np.all(g.apparent_zenith[beam] < 90.0)
     naive_mid_below = np.sum(beam & g.crossing)
     assert naive_mid_below > 0  # the sunrise/sunset hours do hold beam
-    poa = sun.plane_of_array(
+    poa = irradiance.plane_of_array(
         [0.0], [180.0], g.apparent_zenith, g.azimuth, dni, df["ghi"], df["dhi"],
         model="isotropic",
     )
@@ -185,7 +185,7 @@ def test_mid_hour_convention_away_from_sunrise():
 
 def test_unknown_transposition_model_lists_allowed():
     with pytest.raises(ConfigurationError, match=r"transposition model 'klucher'.*'perez'"):
-        sun.plane_of_array([0], [180], [30], [180], [1], [1], [1], model="klucher")
+        irradiance.plane_of_array([0], [180], [30], [180], [1], [1], [1], model="klucher")
 
 
 @pytest.mark.filterwarnings("ignore:.*dayofyear is deprecated")  # inside pvlib 0.16
@@ -222,7 +222,7 @@ def test_poa_equals_pvlib_total_irradiance_in_edge_hours():
     tilt = np.array([0.0, 30.0, 90.0, 180.0, 45.5])
     azim = np.array([180.0, 135.0, 0.0, 270.0, 200.0])
     for model in ("perez", "haydavies", "isotropic"):
-        out = sun.plane_of_array(tilt, azim, zen, sazi, dni, ghi, dhi, model=model,
+        out = irradiance.plane_of_array(tilt, azim, zen, sazi, dni, ghi, dhi, model=model,
                                  albedo=0.2, dni_extra=dni_extra, airmass=am)
         def c(x):
             return x[:, None]
