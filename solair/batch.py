@@ -39,7 +39,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, TextIO
 
-from solair.cluster import run_on_dask
+from solair.cluster import run_on_dask, tune_allocator
 from solair.errors import ConfigurationError, one_line
 from solair.portfolio import ResolvedPortfolio
 from solair.provenance import CAUTION, versions
@@ -491,6 +491,7 @@ def _now() -> str:
 
 def _run_task(task: dict[str, Any]) -> dict[str, Any]:
     """:func:`run_climate` with its start time (what a worker, or the serial loop, runs)."""
+    tune_allocator()  # once per process: keep the hourly arrays' heap pages between tasks
     started = _now()
     rec = run_climate(task)
     rec["started"] = started

@@ -11,6 +11,7 @@ client records it live in :mod:`solair.batch`.
 from __future__ import annotations
 
 import contextlib
+import functools
 import os
 import uuid
 from collections.abc import Callable, Iterator
@@ -27,6 +28,7 @@ __all__ = [
     "cores",
     "run_on_dask",
     "start_local_cluster",
+    "tune_allocator",
     "versions",
 ]
 
@@ -57,15 +59,46 @@ def check_version_skew(client, client_versions: dict[str, str]) -> None:
                 f"versions on every worker (see docs/scaling.md)")
 
 
-#: glibc allocator setting for worker processes.  dask's nanny sets MALLOC_TRIM_THRESHOLD_
-#: (``distributed.nanny.pre-spawn-environ``), and setting any malloc tunable turns off glibc's
-#: dynamic mmap threshold: every array above 128 KiB is then mmap-ed fresh and unmapped on
-#: free, and each task pays page faults on all its temporaries (measured in one worker: 50-58
-#: thousand minor faults per Greensboro task against 6.7 thousand in-process, 220 against 135
-#: ms).  A fixed 32 MiB threshold (glibc's own dynamic ceiling on 64-bit) keeps the hourly
-#: arrays (8760 x 68 float64 = 4.8 MB) in the heap; RSS stays within a few MiB.  glibc reads it
-#: only at process start, so it goes in ``pre-spawn-environ``, not the nanny's ``env``.
-WORKER_ENV = {"MALLOC_MMAP_THRESHOLD_": str(32 * 1024 * 1024)}
+#: glibc allocator settings for the processes that run tasks.  dask's nanny sets
+#: MALLOC_TRIM_THRESHOLD_=65536 (``distributed.nanny.pre-spawn-environ``), and setting any malloc
+#: tunable turns off glibc's dynamic thresholds: every array above 128 KiB is then mmap-ed fresh
+#: and unmapped on free (measured: 50-58 thousand minor faults per task, 220 against 135 ms), and
+#: whatever the heap frees above 64 KiB at its top goes back to the kernel after every task, to be
+#: faulted in again by the next (measured: ~7.8 thousand faults per task, ~140 against ~115 ms,
+#: the same peak RSS).  A fixed 32 MiB mmap threshold (glibc's own dynamic ceiling on 64-bit)
+#: keeps the hourly arrays (8760 x 68 float64 = 4.8 MB) in the heap, and a 256 MiB trim threshold
+#: keeps the heap's pages between tasks; the peak RSS does not change.  The local cluster spawns
+#: its workers with them; :func:`tune_allocator` sets the same in any process that runs a task.
+WORKER_ENV = {"MALLOC_MMAP_THRESHOLD_": str(32 * 1024 * 1024),
+              "MALLOC_TRIM_THRESHOLD_": str(256 * 1024 * 1024)}
+#: mallopt parameter numbers (glibc's malloc.h)
+_M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3
+
+
+@functools.cache
+def tune_allocator() -> bool:
+    """Set :data:`WORKER_ENV`'s thresholds in this process with glibc's ``mallopt``, once.
+
+    What a task process needs to keep its hourly arrays and their pages between tasks,
+    whoever started it (the local cluster, ``dask worker`` by hand, a job queue, a pod, or
+    ``solair batch --workers 0`` itself). Results do not depend on it, only speed.
+
+    Returns
+    -------
+    bool
+        True where glibc took both settings; False elsewhere (macOS, musl), where nothing
+        is changed.
+    """
+    import ctypes
+
+    try:
+        mallopt = ctypes.CDLL(None).mallopt
+    except (OSError, AttributeError):  # no C library symbols, or no mallopt (not glibc)
+        return False
+    mallopt.argtypes = [ctypes.c_int, ctypes.c_int]
+    mallopt.restype = ctypes.c_int
+    return (mallopt(_M_MMAP_THRESHOLD, int(WORKER_ENV["MALLOC_MMAP_THRESHOLD_"])) == 1
+            and mallopt(_M_TRIM_THRESHOLD, int(WORKER_ENV["MALLOC_TRIM_THRESHOLD_"])) == 1)
 
 
 def start_local_cluster(n_workers: int, **kwargs: Any):

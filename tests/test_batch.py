@@ -12,6 +12,7 @@ from __future__ import annotations
 import io
 import json
 import os
+import platform
 import shutil
 import signal
 import subprocess
@@ -294,8 +295,9 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
     pf.write_text(portfolio_text(weather), encoding="utf-8")
     with start_local_cluster(1) as cluster:
         with Client(cluster) as client:
-            got = client.run(functools.partial(os.getenv, "MALLOC_MMAP_THRESHOLD_"))
-        assert list(got.values()) == [WORKER_ENV["MALLOC_MMAP_THRESHOLD_"]]
+            for name, value in WORKER_ENV.items():
+                got = client.run(functools.partial(os.getenv, name))
+                assert list(got.values()) == [value], name
         result = run_cli([str(pf), "--scheduler", cluster.scheduler_address,
                           "-o", str(tmp_path / "a")])
         assert result.exit_code == 0, result.output
@@ -529,3 +531,12 @@ def test_run_on_dask_hands_on_tasks_that_return_nothing():
                     memory_limit=None, client_versions=versions())
     assert sorted(got, key=str) == sorted(
         [1, 3, {"label": "b", "status": "failed", "error": "KeyError"}], key=str)
+
+
+@pytest.mark.skipif(platform.libc_ver()[0] != "glibc", reason="mallopt is glibc's")
+def test_tune_allocator_takes_on_glibc():
+    """Every task process gets the allocator thresholds, whoever started it (mallopt)."""
+    from solair.cluster import tune_allocator
+
+    assert tune_allocator() is True
+    assert tune_allocator() is True  # once per process; a second call changes nothing
