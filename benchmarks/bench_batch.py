@@ -9,9 +9,10 @@ Prints, in one run:
 * the time per climate-year of each stage in-process (read, compute, write);
 * throughput [climate-years/s] with 1 and 2 local worker processes, and the parallel
   efficiency T1 / (2 T2): each measured run is a whole portfolio run of all the climates,
-  as a user starts it (connect, version check, tasks, manifest, summary), on clusters started
-  beforehand; the two clusters take turns (1, 2, 1, 2, ...) so that a change of the
-  machine's load hits both alike;
+  as a user starts it (connect, version check, tasks, manifest, summary), on a cluster
+  started (and warmed up with one climate per worker) beforehand and alone on the machine;
+  1 and 2 workers take turns (1, 2, 1, 2, ...) so that a change of the machine's load hits
+  both alike;
 * the fraction of the workers' wall time spent inside tasks (what the orchestration costs);
 * the peak RSS per worker process of the 2-worker cluster after 50 and after 200 climates.
 
@@ -117,7 +118,9 @@ def stage_times(climates: list[Path], response: str | None, tmp: Path) -> dict[s
     import solair.compare
     import solair.engine
     from solair import batch
+    from solair.cluster import tune_allocator
 
+    tune_allocator()  # as in every process that runs tasks
     res = portfolio(climates, tmp, response)
     settings = res.settings
     times: dict[str, list[float]] = {"read": [], "compute (incl. read)": [],
@@ -249,34 +252,39 @@ def main(argv: list[str] | None = None) -> None:
         from solair.cluster import start_local_cluster
 
         n = len(climates)
-        # both clusters live through the whole benchmark and take turns on whole runs of all
-        # the climates, so that a change of the machine's load (other jobs) hits both alike
-        with start_local_cluster(1, silence_logs=logging.ERROR) as c1, \
-                start_local_cluster(2, silence_logs=logging.ERROR) as c2, \
-                Client(c1) as k1, Client(c2) as k2:
-            k1.run(_warm_up)
-            k2.run(_warm_up)
-            # first memory point: a run of the first `small` climates on the 2-worker cluster
-            # (it also pays the workers' first-call costs, which a long-lived worker pays once)
-            run_chunk(k2, c2.scheduler_address, climates[:args.small], tmp / "small",
-                      args.response, 2)
-            rss_small = sorted(k2.run(_peak_rss_mib).values())
-            run_chunk(k1, c1.scheduler_address, climates[:args.small], tmp / "small1",
-                      args.response, 1)
-            walls: dict[int, list[float]] = {1: [], 2: []}
-            utils: dict[int, list[float]] = {1: [], 2: []}
-            for i in range(args.repeats):
-                for k, c, w in ((k1, c1, 1), (k2, c2, 2)):
-                    wall, util = run_chunk(k, c.scheduler_address, climates,
+        # 1 and 2 workers take turns on whole runs of all the climates, so that a change of the
+        # machine's load (other jobs) hits both alike; each run has its cluster alone on the
+        # machine (started before and closed after its timing, as a user's run has one), and
+        # each cluster's workers have run a warm-up climate first (imports, compiled kernels
+        # loaded from numba's cache), as long-lived workers have
+        walls: dict[int, list[float]] = {1: [], 2: []}
+        utils: dict[int, list[float]] = {1: [], 2: []}
+        rss_small = rss2 = rss1 = None
+        for i in range(args.repeats):
+            for w in (1, 2):
+                with start_local_cluster(w, silence_logs=logging.ERROR) as cl, Client(cl) as k:
+                    k.run(_warm_up)
+                    if w == 2 and rss_small is None:
+                        # first memory point: a run of the first `small` climates
+                        run_chunk(k, cl.scheduler_address, climates[:args.small], tmp / "small",
+                                  args.response, 2)
+                        rss_small = sorted(k.run(_peak_rss_mib).values())
+                    else:
+                        run_chunk(k, cl.scheduler_address, climates[:w], tmp / f"warm{w}",
+                                  args.response, w)
+                    wall, util = run_chunk(k, cl.scheduler_address, climates,
                                            tmp / f"w{w}_{i}", args.response, w)
-                    walls[w].append(wall)
-                    utils[w].append(util)
-                    print(f"  run {i + 1}/{args.repeats}, {w} worker{'s' if w > 1 else ' '}: "
-                          f"{n} climates in {wall:6.1f} s = {n / wall:6.2f} climate-years/s, "
-                          f"workers busy {util * 100:5.1f} %, load {os.getloadavg()[0]:.1f}",
-                          flush=True)
-            rss2 = sorted(k2.run(_peak_rss_mib).values())
-            rss1 = sorted(k1.run(_peak_rss_mib).values())
+                    rss = sorted(k.run(_peak_rss_mib).values())
+                    if w == 2 and rss2 is None:
+                        rss2 = rss
+                    elif w == 1:
+                        rss1 = rss
+                walls[w].append(wall)
+                utils[w].append(util)
+                print(f"  run {i + 1}/{args.repeats}, {w} worker{'s' if w > 1 else ' '}: "
+                      f"{n} climates in {wall:6.1f} s = {n / wall:6.2f} climate-years/s, "
+                      f"workers busy {util * 100:5.1f} %, load {os.getloadavg()[0]:.1f}",
+                      flush=True)
         t1, t2 = float(np.median(walls[1])), float(np.median(walls[2]))
         pairs = [a / (2 * b) for a, b in zip(walls[1], walls[2])]
         eff = t1 / (2 * t2)
@@ -291,11 +299,11 @@ def main(argv: list[str] | None = None) -> None:
         print("\npeak RSS per worker process [MiB] (2 workers):")
         print(f"  after {args.small:3d} climates: "
               f"{', '.join(f'{r:.0f}' for r in (rss_small or rss2))}")
-        print(f"  after {args.small + args.repeats * n:3d} climates ({args.small}, then "
-              f"{args.repeats} x {n}): {', '.join(f'{r:.0f}' for r in rss2)}")
+        print(f"  after {args.small + n:3d} climates ({args.small}, then {n}): "
+              f"{', '.join(f'{r:.0f}' for r in rss2)}")
         growth = max(rss2) / max(rss_small or rss2) - 1.0
         print(f"  growth {args.small} -> {n}: {growth * 100:+.1f} %   (target within 10 %)")
-        print(f"  1-worker cluster, at the end: {', '.join(f'{r:.0f}' for r in rss1)}")
+        print(f"  1-worker cluster, after {1 + n} climates: {', '.join(f'{r:.0f}' for r in rss1)}")
         print(f"load average at the end: {os.getloadavg()[0]:.2f}")
     finally:
         if args.keep_files:
