@@ -453,8 +453,11 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
     status = _OK
     largest = 0.0
     # The factors of the coefficients that depend on the temperatures and view factors only
-    # repeat along a trailing finish axis: they are recomputed only when those inputs change.
-    ta_c = tsky_c = tg_c = s = f_a = f_g = math.nan  # the previous element's
+    # are computed once per (i, j) when none of those inputs varies along the last axis
+    # (stride 0: a broadcast finish axis), else for every element.
+    rep = (ta.strides[2] == 0 and tsky.strides[2] == 0 and tg.strides[2] == 0
+           and fs.strides[2] == 0 and fa.strides[2] == 0 and fg.strides[2] == 0)
+    ta_c = tsky_c = tg_c = s = f_a = f_g = 0.0
     ta_k = f_sum = a_sky = a_air = a_gnd = l_4 = p_1 = p_2 = p_3 = 0.0
     m = 0  # elements in the block
     for i in range(n0):
@@ -462,8 +465,7 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
             for k in range(n2):
                 at = (i * n1 + j) * n2 + k
                 bad = _OK
-                if not (ta[i, j, k] == ta_c and tsky[i, j, k] == tsky_c and tg[i, j, k] == tg_c
-                        and fs[i, j, k] == s and fa[i, j, k] == f_a and fg[i, j, k] == f_g):
+                if k == 0 or not rep:
                     ta_c, tsky_c, tg_c = ta[i, j, k], tsky[i, j, k], tg[i, j, k]
                     s, f_a, f_g = fs[i, j, k], fa[i, j, k], fg[i, j, k]
                     ta_k, tsky_k, tg_k = ta_c + KELVIN, tsky_c + KELVIN, tg_c + KELVIN

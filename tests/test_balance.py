@@ -318,6 +318,33 @@ def test_any_ndim_equals_elementwise_calls(ndim, lin):
 
 
 @pytest.mark.parametrize("lin", ["air", "surface"])
+def test_broadcast_finish_axis_equals_materialised_inputs(lin):
+    # the kernel computes the weather and view-factor terms once per (time, surface) when
+    # those inputs are broadcast along the finish axis (stride 0), else per element: both
+    # paths do the same operations (ASTM E1980-11 surface balance), so the results are equal
+    # to the last bit
+    rng = np.random.default_rng(11)
+    ta = rng.uniform(-20.0, 40.0, (50, 1, 1))
+    tsky = ta - rng.uniform(0.0, 25.0, (50, 1, 1))
+    g = rng.uniform(0.0, 1000.0, (50, 3, 1))
+    fs, fa, fg = (x[None, :, None] for x in longwave.view_factors(np.array([0.0, 45.0, 90.0])))
+    alpha = np.array([0.1, 0.5, 0.9, 0.95])[None, None, :]
+    eps = np.array([0.9, 0.3, 0.85, 0.05])[None, None, :]
+    hc = rng.uniform(2.0, 30.0, (50, 3, 1))
+    kw = {"linearisation": lin}
+    ref = balance.temp_sol_air(ta, g, alpha, eps, hc, tsky, view_sky=fs, view_air=fa,
+                               view_ground=fg, **kw)
+
+    def full(x):  # a writable C array of the full shape: finish-axis stride not 0
+        return np.ascontiguousarray(np.broadcast_to(x, (50, 3, 4)))
+
+    out = balance.temp_sol_air(full(ta), g, alpha, eps, hc, full(tsky), view_sky=full(fs),
+                               view_air=full(fa), view_ground=full(fg), **kw)
+    for key in ("temp_sol_air", "h_rad", "h_e", "r_se"):
+        assert_allclose(out[key], ref[key], rtol=0, atol=0, err_msg=key)
+
+
+@pytest.mark.parametrize("lin", ["air", "surface"])
 def test_read_only_and_non_contiguous_inputs(lin):
     # broadcast views (read-only), Fortran order, strided slices and writable C arrays all give
     # the same values, through one compiled specialisation of the kernel
