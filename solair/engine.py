@@ -481,28 +481,28 @@ def sol_air(
     a = _as_property(absorptance, "absorptance", forcing)
     e = _as_property(emissivity, "emissivity", forcing)
     conventional = forcing.attrs.get("convection_model") == "iso6946_conventional"
-    f = forcing
+    f, fv = forcing, forcing.variables
     extra = [d for d in (*a.dims, *e.dims) if d not in ("time", "surface")]
     dims = ("time", "surface", *dict.fromkeys(extra))
     sizes = {**f.sizes, **a.sizes, **e.sizes}
 
     def on(da):  # numpy view broadcastable to dims (size-1 axes where da lacks a dim)
         own = [d for d in dims if d in da.dims]
-        v = da.transpose(*own).values
+        v = getattr(da, "variable", da).transpose(*own).values  # a Variable's is cheaper
         return v.reshape([sizes[d] if d in da.dims else 1 for d in dims])
 
-    ta, tg = on(f["temp_air"]), on(f["temp_ground"])
+    ta, tg = on(fv["temp_air"]), on(fv["temp_ground"])
 
     def run(temp_sky, outputs):
         return balance.temp_sol_air(
-            ta, on(f["poa_global"]), on(a), on(e), on(f["h_conv"]), temp_sky, temp_ground=tg,
-            view_sky=on(f["view_sky"]), view_air=on(f["view_air"]),
-            view_ground=on(f["view_ground"]), linearisation=linearisation,
+            ta, on(fv["poa_global"]), on(a), on(e), on(fv["h_conv"]), temp_sky, temp_ground=tg,
+            view_sky=on(fv["view_sky"]), view_air=on(fv["view_air"]),
+            view_ground=on(fv["view_ground"]), linearisation=linearisation,
             conventional=conventional, variables=outputs,
         )
 
     shape = tuple(sizes[d] for d in dims)
-    res = run(on(f["temp_sky"]), wanted)
+    res = run(on(fv["temp_sky"]), wanted)
     coords = {d: f[d] if d in f.coords else (a[d] if d in a.coords else e[d])
               for d in dims if d in f.coords or d in a.coords or d in e.coords}
     for c in ("surface_tilt", "surface_azimuth"):
