@@ -31,6 +31,8 @@ from solair import sky as _sky
 from solair.errors import ConfigurationError
 from solair.provenance import CAUTION, solair_version
 from solair.surfaces import Surface, check_unique_names, default_surfaces
+from solair.variable_meta import META as _META
+from solair.variable_meta import label as _label
 
 __all__ = [
     "CAUTION",
@@ -50,50 +52,6 @@ _TIME_CONVENTION = (
     "cover; local standard time = UTC + utc_offset_hours; solar geometry at mid-hour, or at "
     "the middle of the sunlit part of hours that contain sunrise or sunset"
 )
-
-# name -> (units, long_name, CF standard_name or None)
-_META = {
-    "temp_air": ("degC", "dry-bulb air temperature", "air_temperature"),
-    "temp_dew": ("degC", "dew-point temperature", "dew_point_temperature"),
-    "relative_humidity": ("%", "relative humidity", "relative_humidity"),
-    "pressure": ("Pa", "station air pressure", "surface_air_pressure"),
-    "wind_speed": ("m s-1", "wind speed at the surface (after the terrain profile)", "wind_speed"),
-    "wind_direction": ("degree", "direction the wind blows from", "wind_from_direction"),
-    "solar_zenith": ("degree", "apparent solar zenith angle used for the hour",
-                     "solar_zenith_angle"),
-    "solar_azimuth": ("degree", "solar azimuth used for the hour, clockwise from north",
-                      "solar_azimuth_angle"),
-    "temp_sky": ("degC", "effective sky temperature (L_down = sigma T_sky^4)", None),
-    "sky_source": ("1", "source of the sky temperature in each hour", None),
-    "temp_ground": ("degC", "temperature of the ground and surroundings", None),
-    "poa_global": ("W m-2", "solar irradiance on the plane of the surface", None),
-    "h_conv": ("W m-2 K-1", "external convective heat transfer coefficient", None),
-    "h_rad": ("W m-2 K-1", "external long-wave radiative heat transfer coefficient", None),
-    "h_e": ("W m-2 K-1", "external surface heat transfer coefficient h_conv + h_rad", None),
-    "r_se": ("m2 K W-1", "external surface resistance 1/h_e", None),
-    "temp_sol_air": ("degC", "exterior equivalent (sol-air) temperature", None),
-    "view_sky": ("1", "long-wave view factor to the sky", None),
-    "view_air": ("1", "long-wave view factor to the near-horizon air", None),
-    "view_ground": ("1", "long-wave view factor to the ground", None),
-    "temp_sky_models": ("degC", "effective sky temperature by each clear-sky correlation", None),
-    "temp_sky_min": ("degC", "lowest sky temperature across the clear-sky correlations", None),
-    "temp_sky_max": ("degC", "highest sky temperature across the clear-sky correlations", None),
-    "temp_sol_air_min": ("degC", "lowest sol-air temperature across the sky correlations", None),
-    "temp_sol_air_max": ("degC", "highest sol-air temperature across the sky correlations", None),
-    "surface_tilt": ("degree", "surface tilt from horizontal (0 facing up, 90 vertical)", None),
-    "surface_azimuth": ("degree", "direction the surface faces, clockwise from north", None),
-    "absorptance": ("1", "solar absorptance of the finish", None),
-    "emissivity": ("1", "thermal emissivity of the finish", None),
-}
-
-
-def _label(da: xr.DataArray, name: str) -> xr.DataArray:
-    units, long_name, standard = _META[name]
-    da.attrs.update({"units": units, "long_name": long_name})
-    if standard:
-        da.attrs["standard_name"] = standard
-    return da
-
 
 def check_options(
     *,
@@ -373,13 +331,14 @@ def _forcing(w, surfaces, sky_model, transposition, conv_model, albedo_fixed, sk
         ds["temp_sky_max"] = (T, stack.max(axis=-1))
     for name in ds.variables:
         if name in _META:
-            _label(ds[name], name)
-    ds["time"].attrs.update({"long_name": "end of the hour (UTC)", "standard_name": "time"})
-    ds["surface"].attrs["long_name"] = "surface name"
+            _label(ds.variables[name], name)
+    ds.variables["time"].attrs.update({"long_name": "end of the hour (UTC)",
+                                       "standard_name": "time"})
+    ds.variables["surface"].attrs["long_name"] = "surface name"
     if "sky_model" in ds.coords:
-        ds["sky_model"].attrs["long_name"] = "clear-sky emissivity correlation"
+        ds.variables["sky_model"].attrs["long_name"] = "clear-sky emissivity correlation"
     codes = sorted(_sky.SKY_SOURCES)
-    ds["sky_source"].attrs.update({
+    ds.variables["sky_source"].attrs.update({
         "flag_values": np.array(codes, dtype=np.int8),
         "flag_meanings": " ".join(_sky.SKY_SOURCES[c] for c in codes),
     })
@@ -523,7 +482,7 @@ def sol_air(
         out["temp_sol_air_min"] = (dims, lo)
         out["temp_sol_air_max"] = (dims, hi)
     for name in out.data_vars:
-        _label(out[name], name)
+        _label(out.variables[name], name)
     out.attrs.update({"linearisation": linearisation, "caution": CAUTION})
     # no _assert_finite(out): every variable comes from balance.temp_sol_air, which checks
     # its inputs and raises on any non-finite output (a second pass: ~5 ms at 8760x17x4)
@@ -600,7 +559,7 @@ def compute(
     ds = xr.Dataset({k: source[k] for k in order if k in source}, coords=coords,
                     attrs=dict(forcing.attrs))
     for name in ("absorptance", "emissivity", "surface_tilt", "surface_azimuth"):
-        _label(ds[name], name)
+        _label(ds.variables[name], name)
     ds.attrs["title"] = "solair sol-air temperature and external surface resistance"
     ds.attrs["linearisation"] = linearisation
     return ds
