@@ -519,6 +519,7 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
                     for b in range(m):
                         act_b[b] = True
                         step_b[b] = math.inf
+                    n_act = m
                     for _ in range(max_iter):
                         n_act = 0
                         for b in range(m):
@@ -534,7 +535,24 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
                             n_act += go
                         if n_act == 0:
                             break
+                    # h_rad at the root and the outputs, without a branch per element; any
+                    # element still iterating or with h_e < H_E_MIN: the loop below instead,
+                    # which stops at the first of them
+                    n_bad = n_act
                     for b in range(m):
+                        t = t_b[b]
+                        h_rad = (((f_b[b] * t + p1_b[b]) * t + p2_b[b]) * t + p3_b[b]) * sig_b[b]
+                        h_e = h_rad + hc_b[b]
+                        n_bad += not h_e >= H_E_MIN
+                        if keep_t:
+                            t_flat[f0 + b] = t - KELVIN
+                        if keep_rad:
+                            rad_flat[f0 + b] = h_rad
+                        if keep_e:
+                            e_flat[f0 + b] = h_e
+                        if keep_r:
+                            r_flat[f0 + b] = 1.0 / h_e
+                    for b in range(m if n_bad > 0 else 0):
                         if act_b[b]:  # max_iter steps, the last one above tol
                             step = step_b[b]
                             if not math.isfinite(step):  # h_e > 0 here, so T^4 overflowed

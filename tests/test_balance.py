@@ -413,6 +413,28 @@ def test_variables_unknown_name_lists_the_allowed_ones():
                              view_ground=0.0, variables=("temp_sol_air", "h_sky"))
 
 
+def test_unconverged_block_reports_the_largest_last_step_of_its_elements():
+    # a block where some elements do not converge in max_iter Newton steps goes through the
+    # kernel's element-by-element path: the largest last step reported is the largest of
+    # the one-element calls' (the same steps; ASTM E1980-11 balance)
+    rng = np.random.default_rng(5)
+    n = balance._BLOCK + 9
+    kw = {"temp_air": rng.uniform(-30, 45, n), "poa_global": rng.uniform(0, 1100, n),
+          "absorptance": rng.uniform(0, 1, n), "emissivity": rng.uniform(0.05, 0.95, n),
+          "h_conv": rng.uniform(0.5, 40, n), "temp_sky": rng.uniform(-60, 20, n)}
+
+    def largest(**args):
+        try:
+            balance.temp_sol_air(**args, **HORIZONTAL, linearisation="surface", max_iter=2)
+        except ConfigurationError as err:
+            return float(str(err).split("largest last step ")[1].split(" K")[0])
+        return 0.0
+
+    each = max(largest(**{k: v[i] for k, v in kw.items()}) for i in range(n))
+    assert each > 0.0
+    assert_allclose(largest(**kw), each, rtol=1e-2)  # the message prints 3 digits
+
+
 def test_kernel_blocks_equal_one_element_calls_and_name_the_failing_element():
     # the kernel iterates Newton on blocks of balance._BLOCK elements at once; more than two
     # blocks of mixed inputs (each element needing its own number of steps) give the values
