@@ -2,8 +2,9 @@
 
 Each task receives a weather file's *path* and the plain settings of the run (no
 data frames travel; on dask the settings go as one blob pickled once in the client and
-unpickled once per worker process, :class:`solair.cluster.Shared`), reads the file, computes every surface x finish in one
-vectorised call (:func:`solair.compare.compare`), and writes, inside the task:
+unpickled once per worker process, :class:`solair.cluster.Shared`), reads the file,
+computes every surface x finish in one vectorised call (:func:`solair.compare.compare`),
+and writes, inside the task:
 
 * ``climates/<label>.nc``: the hourly results (time x surface x finish), NetCDF
   through h5netcdf, written with dask's synchronous scheduler (inside a
