@@ -1,10 +1,8 @@
 """Batch runner of a portfolio: one task per weather file, on dask or in-process.
 
 Each task receives a weather file's *path* and the plain settings of the run (no
-data frames travel; on dask the settings go as one blob pickled once in the client and
-unpickled once per worker process, :class:`solair.cluster.Shared`), reads the file,
-computes every surface x finish in one vectorised call (:func:`solair.compare.compare`),
-and writes, inside the task:
+data frames travel), reads the file, computes every surface x finish in one
+vectorised call (:func:`solair.compare.compare`), and writes, inside the task:
 
 * ``climates/<label>.nc``: the hourly results (time x surface x finish), NetCDF
   through h5netcdf, written with dask's synchronous scheduler (inside a
@@ -41,7 +39,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, TextIO
 
-from solair.cluster import Shared, run_on_dask, tune_allocator
+from solair.cluster import run_on_dask, tune_allocator
 from solair.errors import ConfigurationError, one_line
 from solair.portfolio import ResolvedPortfolio
 from solair.provenance import CAUTION, versions
@@ -463,10 +461,6 @@ def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, sch
                 for task in tasks:
                     finish(_run_task(task))
             else:
-                # the settings travel as one opaque blob, pickled once (see Shared)
-                shared = Shared(portfolio.settings)
-                for task in tasks:
-                    task["settings"] = shared
                 run_on_dask(_run_task, tasks, finish, _lost_task, workers=workers,
                             scheduler=scheduler, scheduler_file=scheduler_file,
                             memory_limit=memory_limit, client_versions=vers)
@@ -499,8 +493,6 @@ def _run_task(task: dict[str, Any]) -> dict[str, Any]:
     """:func:`run_climate` with its start time (what a worker, or the serial loop, runs)."""
     tune_allocator()  # once per process: keep the hourly arrays' heap pages between tasks
     started = _now()
-    if isinstance(task["settings"], Shared):  # unpickled once per worker process
-        task = {**task, "settings": task["settings"].value}
     rec = run_climate(task)
     rec["started"] = started
     return rec

@@ -12,11 +12,8 @@ from __future__ import annotations
 
 import contextlib
 import functools
-import hashlib
 import os
-import pickle
 import uuid
-from collections import OrderedDict
 from collections.abc import Callable, Iterator
 from typing import Any
 
@@ -26,7 +23,6 @@ from solair.provenance import SKEW_PACKAGES, versions
 __all__ = [
     "SKEW_PACKAGES",
     "WORKER_ENV",
-    "Shared",
     "check_version_skew",
     "connect",
     "cores",
@@ -103,51 +99,6 @@ def tune_allocator() -> bool:
     mallopt.restype = ctypes.c_int
     return (mallopt(_M_MMAP_THRESHOLD, int(WORKER_ENV["MALLOC_MMAP_THRESHOLD_"])) == 1
             and mallopt(_M_TRIM_THRESHOLD, int(WORKER_ENV["MALLOC_TRIM_THRESHOLD_"])) == 1)
-
-
-class Shared:
-    """A read-only value pickled once in the client, unpickled once per process that uses it.
-
-    Every task of a batch carries the same settings (surfaces, finishes, construction,
-    models). As a plain dict inside the task they were walked by dask's graph parser on
-    every submit, pickled by the client, unpickled and pickled again by the scheduler and
-    unpickled by the worker, per task.  Wrapped here they travel as one opaque bytes
-    object (pickled once, in the constructor), and :attr:`value` unpickles them once per
-    process, keyed by the sha256 of those bytes.  Each task stays self-contained (a worker
-    that joins late needs nothing sent ahead), and the value is the same dict as given.
-    """
-
-    __slots__ = ("_blob", "key")
-    #: the values unpickled in this process, newest last (a few configurations at most)
-    _cache: OrderedDict[str, Any] = OrderedDict()
-    _CACHE_SIZE = 8
-
-    def __init__(self, value: Any = None, *, _key: str | None = None, _blob: bytes = b""):
-        if _key is None:
-            _blob = pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)
-            _key = hashlib.sha256(_blob).hexdigest()
-        self._blob = _blob
-        self.key = _key
-
-    def __reduce__(self):
-        return (_shared, (self.key, self._blob))
-
-    @property
-    def value(self) -> Any:
-        """The wrapped value, unpickled on first use in this process and kept (shared)."""
-        cache = Shared._cache
-        try:
-            cache.move_to_end(self.key)
-            return cache[self.key]
-        except KeyError:
-            value = cache[self.key] = pickle.loads(self._blob)
-            while len(cache) > Shared._CACHE_SIZE:
-                cache.popitem(last=False)
-            return value
-
-
-def _shared(key: str, blob: bytes) -> Shared:
-    return Shared(_key=key, _blob=blob)
 
 
 def start_local_cluster(n_workers: int, **kwargs: Any):
@@ -234,12 +185,6 @@ def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict
     worker threads (the client's memory stays flat in the number of tasks) and hands
     every finished record to ``finish`` in the client, in completion order. A task that
     returns nothing (its worker died, say) is handed on as ``lost(task, exception)``.
-
-    The window is refilled in batches: once half of it has finished, the free half is
-    submitted in one ``client.map`` call (one graph message, one scheduler update) instead
-    of one ``client.submit`` per finished task; the half still in flight (at least one
-    task per worker thread) keeps every worker busy meanwhile.  Keys are the task's label
-    and a token drawn once per run.
     """
     from distributed import as_completed
 
@@ -250,18 +195,14 @@ def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict
         window = max(4, 2 * n_threads)  # bounded in-flight futures: flat client memory
         queue = iter(tasks)
         by_future: dict[Any, dict[str, Any]] = {}
-        token = uuid.uuid4().hex[:8]  # labels are unique within a portfolio
 
-        def submit(n: int) -> list[Any]:
-            batch = [t for _, t in zip(range(n), queue)]
-            if not batch:
-                return []
-            futures = client.map(fn, batch, pure=False,
-                                 key=[f"solair-climate-{t['label']}-{token}" for t in batch])
-            by_future.update(zip(futures, batch))
-            return futures
+        def submit(task: dict[str, Any]):
+            fut = client.submit(fn, task, pure=False,
+                                key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
+            by_future[fut] = task
+            return fut
 
-        pending = as_completed(submit(window))
+        pending = as_completed([submit(t) for _, t in zip(range(window), queue)])
         for fut in pending:
             task = by_future.pop(fut)
             try:
@@ -270,5 +211,6 @@ def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict
                 rec = lost(task, exc)
             fut.release()
             finish(rec)
-            if len(by_future) <= window // 2:
-                pending.update(submit(window - len(by_future)))
+            nxt = next(queue, None)
+            if nxt is not None:
+                pending.add(submit(nxt))

@@ -516,47 +516,21 @@ def _lost_marker(task, exc):
 @pytest.mark.slow
 def test_run_on_dask_hands_on_tasks_that_return_nothing():
     """A task whose future raises (here a KeyError inside the worker, as a killed worker's
-    KilledWorker would) reaches ``finish`` as ``lost(task, exc)``; the others complete.
-    11 tasks through a window of 4 (refilled by halves): each reaches ``finish`` once."""
+    KilledWorker would) reaches ``finish`` as ``lost(task, exc)``; the others complete."""
     import operator
 
     from solair.cluster import run_on_dask, start_local_cluster
     from solair.provenance import versions
 
-    tasks = [{"label": f"t{i}"} if i % 3 == 1 else {"label": f"t{i}", "value": i}
-             for i in range(11)]
+    tasks = [{"label": "a", "value": 1}, {"label": "b"}, {"label": "c", "value": 3}]
     got = []
     with start_local_cluster(1) as cluster:
         run_on_dask(operator.itemgetter("value"), tasks,
                     lambda rec: got.append(rec), _lost_marker, workers=None,
                     scheduler=cluster.scheduler_address, scheduler_file=None,
                     memory_limit=None, client_versions=versions())
-    expected = [i if i % 3 != 1 else {"label": f"t{i}", "status": "failed", "error": "KeyError"}
-                for i in range(11)]
-    assert sorted(got, key=str) == sorted(expected, key=str)
-
-
-def test_shared_settings_travel_as_one_opaque_blob(monkeypatch):
-    """The settings are pickled once; a pickle round trip (client -> scheduler -> worker)
-    keeps them opaque, a process unpickles them once, and the task sees the plain dict."""
-    import pickle
-
-    from solair import batch
-    from solair.cluster import Shared
-
-    settings = {"surfaces": [{"name": "roof", "surface_tilt": 0.0, "surface_azimuth": 180.0}],
-                "models": {"r_se": None}, "hourly": {"dtype": "float32"}}
-    shared = Shared(settings)
-    hop = pickle.loads(pickle.dumps(pickle.loads(pickle.dumps(shared))))  # two hops
-    assert isinstance(hop, Shared)
-    assert hop.key == shared.key
-    assert hop.value == settings
-    assert hop.value is pickle.loads(pickle.dumps(shared)).value  # unpickled once here
-    assert Shared({**settings, "hourly": {}}).key != shared.key
-    seen = []
-    monkeypatch.setattr(batch, "run_climate", lambda task: seen.append(task) or {"label": "x"})
-    batch._run_task({"label": "x", "settings": hop})
-    assert seen == [{"label": "x", "settings": settings}]
+    assert sorted(got, key=str) == sorted(
+        [1, 3, {"label": "b", "status": "failed", "error": "KeyError"}], key=str)
 
 
 @pytest.mark.skipif(platform.libc_ver()[0] != "glibc", reason="mallopt is glibc's")
