@@ -18,9 +18,10 @@ from solair.constructions import r_si
 from solair.errors import ConfigurationError
 
 
-def _compact(value, shape, name):
-    """Like ``solair.response._flat``, but an axis of size 1 stays 1: (1|time, 1|column),
-    not the full (time, column) shape (e.g. a constant or hourly indoor temperature)."""
+def _checked(value, shape, name):
+    """``value`` as float64 (a (time,) series aligned to the time axis of ``shape``), after
+    the checks every response input gets: it broadcasts to ``shape`` and holds only finite
+    values. Not broadcast itself."""
     arr = np.asarray(value, dtype=float)
     if arr.ndim == 1 and len(shape) > 1 and arr.size == shape[0] and arr.size != shape[-1]:
         arr = arr.reshape((shape[0],) + (1,) * (len(shape) - 1))
@@ -32,6 +33,13 @@ def _compact(value, shape, name):
         ) from None
     if not np.all(np.isfinite(arr)):
         raise ConfigurationError(f"surface response: {name} holds NaN or infinite values")
+    return arr
+
+
+def _compact(value, shape, name):
+    """Like ``solair.response._flat``, but an axis of size 1 stays 1: (1|time, 1|column),
+    not the full (time, column) shape (e.g. a constant or hourly indoor temperature)."""
+    arr = _checked(value, shape, name)
     padded = (1,) * (len(shape) - arr.ndim) + arr.shape
     rows = padded[0]
     if all(s == 1 for s in padded[1:]):

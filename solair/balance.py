@@ -564,14 +564,7 @@ def _balance_loop(ta, g, a, e, hc, tsky, tg, fs, fa, fg, sigma, tol, max_iter, s
                         h_e = h_rad + hc_b[b]
                         if not h_e >= H_E_MIN:
                             return _NO_EXCHANGE, 0.0, f0 + b
-                        if keep_t:
-                            t_flat[f0 + b] = t - KELVIN
-                        if keep_rad:
-                            rad_flat[f0 + b] = h_rad
-                        if keep_e:
-                            e_flat[f0 + b] = h_e
-                        if keep_r:
-                            r_flat[f0 + b] = 1.0 / h_e
+                        # the outputs of the block are stored above already
                     m = 0
                 if bad != _OK:
                     return bad, 0.0, at

@@ -10,17 +10,14 @@ N = 0, E = 90, S = 180, W = 270); irradiance in [W m-2].
 
 References
 ----------
-.. [1] Reda, I. and Andreas, A. (2004). Solar position algorithm for solar
-   radiation applications. Solar Energy 76(5), 577-589.
-   :doi:`10.1016/j.solener.2003.12.003`.
-.. [2] Perez, R., Ineichen, P., Seals, R., Michalsky, J. and Stewart, R.
+.. [1] Perez, R., Ineichen, P., Seals, R., Michalsky, J. and Stewart, R.
    (1990). Modeling daylight availability and irradiance components from
    direct and global irradiance. Solar Energy 44(5), 271-289.
    :doi:`10.1016/0038-092X(90)90055-H`
-.. [3] Hay, J. E. and Davies, J. A. (1980). Calculation of the solar
+.. [2] Hay, J. E. and Davies, J. A. (1980). Calculation of the solar
    radiation incident on an inclined surface. Proc. First Canadian Solar
    Radiation Data Workshop, 59-72.
-.. [4] Holmgren, W. F., Hansen, C. W. and Mikofski, M. A. (2018). pvlib
+.. [3] Holmgren, W. F., Hansen, C. W. and Mikofski, M. A. (2018). pvlib
    python: a python package for modeling solar energy systems. Journal of
    Open Source Software 3(29), 884. :doi:`10.21105/joss.00884`
 """
@@ -35,7 +32,8 @@ from solair.errors import ConfigurationError
 __all__ = ["DEFAULT_ALBEDO", "TRANSPOSITION_MODELS", "check_transposition_model",
            "plane_of_array"]
 
-#: Ground reflectance used where the weather file has none [-].
+#: Ground reflectance used where the weather file has none [-] (common practice for grass
+#: and mixed surroundings).
 DEFAULT_ALBEDO = 0.2
 
 #: Sky-diffuse transposition models passed to pvlib.

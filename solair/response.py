@@ -39,7 +39,7 @@ from typing import Any
 import numpy as np
 
 from solair import conduction
-from solair._response_kernels import _all_hours, _compact, _full2d
+from solair._response_kernels import _all_hours, _checked, _compact, _full2d
 from solair.constructions import Construction, r_si
 from solair.errors import ConfigurationError
 
@@ -72,17 +72,9 @@ _DEW_KEYS = ("temp_air", "temp_dew", "pressure", "h_conv")
 
 
 def _flat(value, shape, name):
-    arr = np.asarray(value, dtype=float)
-    if arr.ndim == 1 and len(shape) > 1 and arr.size == shape[0] and arr.size != shape[-1]:
-        arr = arr.reshape((shape[0],) + (1,) * (len(shape) - 1))
-    try:
-        arr = np.broadcast_to(arr, shape)
-    except ValueError:
-        raise ConfigurationError(
-            f"surface response: {name} of shape {np.shape(value)} does not broadcast to {shape}"
-        ) from None
-    if not np.all(np.isfinite(arr)):
-        raise ConfigurationError(f"surface response: {name} holds NaN or infinite values")
+    """``value`` checked (:func:`_checked`) and broadcast to ``shape``, as a C-contiguous
+    (time, column) array."""
+    arr = np.broadcast_to(_checked(value, shape, name), shape)
     return np.ascontiguousarray(arr.reshape(shape[0], -1))
 
 

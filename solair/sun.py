@@ -21,14 +21,7 @@ References
 .. [1] Reda, I. and Andreas, A. (2004). Solar position algorithm for solar
    radiation applications. Solar Energy 76(5), 577-589.
    :doi:`10.1016/j.solener.2003.12.003`. Corrigendum: Solar Energy 81(6), 838 (2007).
-.. [2] Perez, R., Ineichen, P., Seals, R., Michalsky, J. and Stewart, R.
-   (1990). Modeling daylight availability and irradiance components from
-   direct and global irradiance. Solar Energy 44(5), 271-289.
-   :doi:`10.1016/0038-092X(90)90055-H`
-.. [3] Hay, J. E. and Davies, J. A. (1980). Calculation of the solar
-   radiation incident on an inclined surface. Proc. First Canadian Solar
-   Radiation Data Workshop, 59-72.
-.. [4] Holmgren, W. F., Hansen, C. W. and Mikofski, M. A. (2018). pvlib
+.. [2] Holmgren, W. F., Hansen, C. W. and Mikofski, M. A. (2018). pvlib
    python: a python package for modeling solar energy systems. Journal of
    Open Source Software 3(29), 884. :doi:`10.21105/joss.00884`
 """
