@@ -29,6 +29,7 @@ from click.testing import CliRunner
 from solair.batch import (
     _Manifest,
     atomic_write,
+    flush_filesystem,
     read_manifest,
     run_portfolio,
 )
@@ -389,20 +390,22 @@ def test_version_skew_is_refused():
         check_version_skew(_FakeClient({**here, "pvlib": "0.9.0"}), here)
 
 
-def test_atomic_write_leaves_old_file_or_new_file(tmp_path):
+@pytest.mark.parametrize("durable", [True, False])
+def test_atomic_write_leaves_old_file_or_new_file(tmp_path, durable):
     target = tmp_path / "x.csv"
-    atomic_write(target, lambda tmp: tmp.write_text("old"))
+    atomic_write(target, lambda tmp: tmp.write_text("old"), durable=durable)
 
     def broken(tmp: Path) -> None:
         tmp.write_text("half")
         raise OSError("disk full")
 
     with pytest.raises(OSError, match="disk full"):
-        atomic_write(target, broken)
+        atomic_write(target, broken, durable=durable)
     assert target.read_text() == "old"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["x.csv"]
-    atomic_write(target, lambda tmp: tmp.write_text("new"))
+    atomic_write(target, lambda tmp: tmp.write_text("new"), durable=durable)
     assert target.read_text() == "new"
+    flush_filesystem(tmp_path)  # syncfs on Linux; must not fail on a plain folder
 
 
 def test_manifest_survives_a_torn_last_line(tmp_path):
@@ -493,6 +496,41 @@ def test_hourly_subset_float32_and_kept_metrics(tmp_path, pvlib_data_dir):
     before = load_portfolio(pf).resolve().config_hash
     pf.write_text(text.replace('dtype = "float32"', 'dtype = "float64"'), encoding="utf-8")
     assert load_portfolio(pf).resolve().config_hash != before
+
+
+def test_resume_recomputes_outputs_a_crash_left_short(tmp_path, pvlib_data_dir):
+    """The per-climate files are renamed into place without an fsync each (one flush of the
+    file system ends the run): an operating-system crash before that flush can leave a new
+    file empty or short under its final name. Resume compares each output's size with the one
+    the manifest recorded and recomputes the climate whose files differ; the others are
+    skipped."""
+    weather = tmp_path / "weather"
+    weather.mkdir()
+    for name in ("a.csv", "b.csv"):
+        shutil.copy(pvlib_data_dir / "703165TY.csv", weather / name)
+    text = portfolio_text(weather)
+    start = text.index('[[climates]]\npath = "{pvlib_data}')
+    text = text[:start] + text[text.index("[surfaces]"):]
+    pf = tmp_path / "portfolio.toml"
+    pf.write_text(text, encoding="utf-8")
+    res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
+    assert res.done == ["a", "b"], res.failed
+    out = tmp_path / "results"
+    manifest = read_manifest(out / "manifest.jsonl")
+    for label in ("a", "b"):
+        sizes = manifest[label]["output_bytes"]
+        assert sizes == [(out / "climates" / f"{label}{ext}").stat().st_size
+                         for ext in (".nc", ".metrics.csv")]
+    nc = out / "climates" / "a.nc"
+    good = nc.read_bytes()
+    nc.write_bytes(b"")  # what delayed allocation leaves of a new file after a power cut
+    res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
+    assert (res.done, res.skipped) == (["a"], ["b"])
+    assert nc.read_bytes() == good
+    csv = out / "climates" / "b.metrics.csv"
+    csv.write_bytes(csv.read_bytes()[:100])  # a short file
+    res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
+    assert (res.done, res.skipped) == (["b"], ["a"])
 
 
 def test_one_run_per_output_folder(tmp_path, estate):
