@@ -21,6 +21,7 @@ from solair.errors import ConfigurationError, one_line
 from solair.provenance import SKEW_PACKAGES, versions
 
 __all__ = [
+    "LOCAL_CLUSTER_CONFIG",
     "SKEW_PACKAGES",
     "WORKER_ENV",
     "check_version_skew",
@@ -71,6 +72,17 @@ def check_version_skew(client, client_versions: dict[str, str]) -> None:
 #: its workers with them; :func:`tune_allocator` sets the same in any process that runs a task.
 WORKER_ENV = {"MALLOC_MMAP_THRESHOLD_": str(32 * 1024 * 1024),
               "MALLOC_TRIM_THRESHOLD_": str(256 * 1024 * 1024)}
+#: dask settings of the local cluster, which has no dashboard: its workers' statistical
+#: profiler (a thread that samples the task's stack every 10 ms, for the dashboard's profile
+#: page) took ~4-5 ms of CPU per ~110 ms task beside the task itself (measured: the worker
+#: process's other threads 9-10 -> 5-6 ms per task); the system monitor only feeds the
+#: dashboard's plots, and the tick only times the event loop for warnings the local cluster
+#: silences.  Results do not depend on them.
+LOCAL_CLUSTER_CONFIG = {
+    "distributed.worker.profile.enabled": False,
+    "distributed.admin.tick.interval": "1s",
+    "distributed.admin.system-monitor.interval": "5s",
+}
 #: mallopt parameter numbers (glibc's malloc.h)
 _M_TRIM_THRESHOLD, _M_MMAP_THRESHOLD = -1, -3
 
@@ -105,8 +117,9 @@ def start_local_cluster(n_workers: int, **kwargs: Any):
     """Start the ``distributed.LocalCluster`` the batch uses when given no scheduler.
 
     Worker processes with one thread each (the numerical work holds the GIL in Python
-    between numpy calls, so threads would contend), no dashboard, and :data:`WORKER_ENV` in
-    the environment the workers are spawned with.  ``kwargs`` go to ``LocalCluster``
+    between numpy calls, so threads would contend), no dashboard (and so none of the
+    periodic work that only feeds it: :data:`LOCAL_CLUSTER_CONFIG`), and :data:`WORKER_ENV`
+    in the environment the workers are spawned with.  ``kwargs`` go to ``LocalCluster``
     (``memory_limit``, ``silence_logs``...).  The benchmark starts its clusters here too.
     """
     import dask
@@ -115,7 +128,7 @@ def start_local_cluster(n_workers: int, **kwargs: Any):
     options = {"threads_per_worker": 1, "processes": True, "dashboard_address": None,
                **kwargs}
     env = {f"distributed.nanny.pre-spawn-environ.{k}": v for k, v in WORKER_ENV.items()}
-    with dask.config.set(env):
+    with dask.config.set({**LOCAL_CLUSTER_CONFIG, **env}):
         return LocalCluster(n_workers=n_workers, **options)
 
 
@@ -169,6 +182,26 @@ def cores() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+class _Sealed:
+    """``fn(arg)`` as one callable that dask ships without looking inside.
+
+    dask walks a task's plain dict and list arguments, item by item, for futures and keys
+    to resolve (~160 look-ups per task for a portfolio's settings, on the client and again on
+    the worker); a task here never holds any, and an object of this class is passed on whole.
+    """
+
+    __slots__ = ("fn", "arg")
+
+    def __init__(self, fn: Callable[[Any], Any], arg: Any) -> None:
+        self.fn, self.arg = fn, arg
+
+    def __call__(self) -> Any:
+        return self.fn(self.arg)
+
+    def __reduce__(self):
+        return (_Sealed, (self.fn, self.arg))
+
+
 def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict[str, Any]],
                 finish: Callable[[dict[str, Any]], None],
                 lost: Callable[[dict[str, Any], BaseException], dict[str, Any]], *,
@@ -197,7 +230,7 @@ def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict
         by_future: dict[Any, dict[str, Any]] = {}
 
         def submit(task: dict[str, Any]):
-            fut = client.submit(fn, task, pure=False,
+            fut = client.submit(_Sealed(fn, task), pure=False,
                                 key=f"solair-climate-{task['label']}-{uuid.uuid4().hex[:8]}")
             by_future[fut] = task
             return fut

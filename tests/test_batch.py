@@ -280,14 +280,16 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
     """--scheduler and DASK_SCHEDULER_ADDRESS connect to a cluster started elsewhere.
 
     The cluster is the one ``solair.batch`` starts by itself, so this also checks that its
-    workers were spawned with the allocator setting (``WORKER_ENV``).
+    workers were spawned with the allocator setting (``WORKER_ENV``) and without the
+    dashboard's periodic work (``LOCAL_CLUSTER_CONFIG``).
     """
     import functools
     import os
 
+    import dask
     from distributed import Client
 
-    from solair.cluster import WORKER_ENV, start_local_cluster
+    from solair.cluster import LOCAL_CLUSTER_CONFIG, WORKER_ENV, start_local_cluster
 
     weather = tmp_path / "weather"
     weather.mkdir()
@@ -299,6 +301,11 @@ def test_existing_scheduler(estate, tmp_path, monkeypatch):
             for name, value in WORKER_ENV.items():
                 got = client.run(functools.partial(os.getenv, name))
                 assert list(got.values()) == [value], name
+            for name, value in LOCAL_CLUSTER_CONFIG.items():
+                got = client.run(functools.partial(dask.config.get, name))
+                assert list(got.values()) == [value], name
+            profiling = client.run(lambda dask_worker: "profile" in dask_worker.periodic_callbacks)
+            assert list(profiling.values()) == [False]
         result = run_cli([str(pf), "--scheduler", cluster.scheduler_address,
                           "-o", str(tmp_path / "a")])
         assert result.exit_code == 0, result.output
