@@ -104,6 +104,8 @@ def atomic_write(path: str | os.PathLike, write: Callable[[Path], Any], *,
                 os.fsync(fd)
             finally:
                 os.close(fd)
+        else:
+            _start_writeback(tmp)
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(OSError):
@@ -112,6 +114,25 @@ def atomic_write(path: str | os.PathLike, write: Callable[[Path], Any], *,
     if durable:
         _sync_folder(path.parent)
     return path
+
+
+def _start_writeback(path: Path) -> None:
+    """Have the kernel start writing ``path`` to disk now, without waiting for it.
+
+    On Linux ``posix_fadvise(POSIX_FADV_DONTNEED)`` starts the writeback of the file's
+    dirty pages and lets their cache go once written. Without it the kernel keeps a run's
+    outputs in memory (they are far below its writeback threshold) and the end-of-run
+    :func:`flush_filesystem` writes them all while both cores wait (~0.5 s after 200
+    climates); started here, the disk writes them while the next tasks compute.
+    """
+    if not hasattr(os, "posix_fadvise"):  # macOS, Windows: the final flush does it all
+        return
+    with contextlib.suppress(OSError):
+        fd = os.open(path, os.O_RDONLY)
+        try:
+            os.posix_fadvise(fd, 0, 0, os.POSIX_FADV_DONTNEED)
+        finally:
+            os.close(fd)
 
 
 def _sync_folder(folder: Path) -> None:
