@@ -17,7 +17,9 @@ task records their sizes, the client flushes the output folder's file system
 once at the end of the run (:func:`flush_filesystem`), and resume recomputes a
 climate whose files do not have the recorded sizes (what an operating-system
 crash or power cut before that flush leaves). The task returns only a small
-status dict. The client alone appends one JSON line per task to
+status dict; on dask it also leaves it as JSON in ``.records/``, where the client
+reads it instead of fetching it from the worker (:func:`solair.cluster.run_on_dask`).
+The client alone appends one JSON line per task to
 ``manifest.jsonl`` (inputs' sha256, configuration hash, versions, status, error,
 timing) as tasks finish (:func:`distributed.as_completed`), and writes
 ``summary.csv`` (and ``summary.parquet`` when pyarrow is importable) from the
@@ -64,6 +66,8 @@ __all__ = [
 MANIFEST = "manifest.jsonl"
 CLIMATES_DIR = "climates"
 SUMMARY = "summary"
+#: where the workers leave each task's record for the client (read and removed at once)
+RECORDS_DIR = ".records"
 _TMP_MARK = ".tmp-"
 
 
@@ -519,9 +523,12 @@ def _run(portfolio: ResolvedPortfolio, out_dir: Path, *, workers, scheduler, sch
                 for task in tasks:
                     finish(_run_task(task))
             else:
+                records = out_dir / RECORDS_DIR
+                records.mkdir(exist_ok=True)
                 run_on_dask(_run_task, tasks, finish, _lost_task, workers=workers,
                             scheduler=scheduler, scheduler_file=scheduler_file,
-                            memory_limit=memory_limit, client_versions=vers)
+                            memory_limit=memory_limit, client_versions=vers,
+                            record_dir=records)
     finally:
         bar.close()
         manifest.close()
@@ -600,6 +607,9 @@ def _remove_stale_temporaries(out_dir: Path) -> None:
         for p in folder.glob(f".*{_TMP_MARK}*"):
             with contextlib.suppress(OSError):
                 p.unlink()
+    for p in (out_dir / RECORDS_DIR).glob("*.json"):  # records of tasks a killed run never read
+        with contextlib.suppress(OSError):
+            p.unlink()
 
 
 def _write_summary(out_dir: Path, labels: Iterable[str]) -> tuple[Path | None, Path | None]:

@@ -578,6 +578,46 @@ def test_run_on_dask_hands_on_tasks_that_return_nothing():
         [1, 3, {"label": "b", "status": "failed", "error": "KeyError"}], key=str)
 
 
+def _record_or_set(task):
+    if task["label"] == "set":
+        return {1, 2}  # JSON cannot hold it: left for the client to fetch from the worker
+    return {"label": task["label"], "twice": 2 * task["value"]}
+
+
+@pytest.mark.slow
+def test_run_on_dask_takes_records_from_the_shared_folder(tmp_path, monkeypatch):
+    """With ``record_dir`` the workers leave their records as JSON files and the client reads
+    (and removes) them instead of fetching each result; a record JSON cannot hold, and a task
+    that failed, still arrive through the future."""
+    import distributed
+
+    from solair.cluster import run_on_dask, start_local_cluster
+    from solair.provenance import versions
+
+    fetched = []
+    real_result = distributed.Future.result
+
+    def counting_result(self, *args, **kwargs):
+        fetched.append(self.key)
+        return real_result(self, *args, **kwargs)
+
+    monkeypatch.setattr(distributed.Future, "result", counting_result)
+    tasks = [{"label": "a", "value": 1}, {"label": "b"}, {"label": "c", "value": 3},
+             {"label": "set"}]
+    got = []
+    records = tmp_path / "records"
+    records.mkdir()
+    with start_local_cluster(1) as cluster:
+        run_on_dask(_record_or_set, tasks, got.append, _lost_marker, workers=None,
+                    scheduler=cluster.scheduler_address, scheduler_file=None,
+                    memory_limit=None, client_versions=versions(), record_dir=records)
+    assert sorted(got, key=str) == sorted(
+        [{"label": "a", "twice": 2}, {"label": "c", "twice": 6}, {1, 2},
+         {"label": "b", "status": "failed", "error": "KeyError"}], key=str)
+    assert sorted(k.split("-")[2] for k in fetched) == ["b", "set"]  # the others from files
+    assert list(records.iterdir()) == []
+
+
 @pytest.mark.skipif(platform.libc_ver()[0] != "glibc", reason="mallopt is glibc's")
 def test_tune_allocator_takes_on_glibc():
     """Every task process gets the allocator thresholds, whoever started it (mallopt)."""
