@@ -34,18 +34,17 @@ file hash and configuration hash, and whose outputs exist, is skipped unless
 from __future__ import annotations
 
 import contextlib
-import hashlib
 import json
 import os
 import socket
 import time
-import uuid
 import warnings
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, TextIO
 
+from solair.atomic import TMP_MARK, atomic_write, file_sha256, flush_filesystem
 from solair.cluster import run_on_dask, tune_allocator
 from solair.errors import ConfigurationError, one_line
 from solair.portfolio import ResolvedPortfolio
@@ -68,110 +67,9 @@ CLIMATES_DIR = "climates"
 SUMMARY = "summary"
 #: where the workers leave each task's record for the client (read and removed at once)
 RECORDS_DIR = ".records"
-_TMP_MARK = ".tmp-"
 
 
-# --------------------------------------------------------------------------- small helpers
-
-def file_sha256(path: str | os.PathLike, chunk: int = 1 << 20) -> str:
-    """sha256 (hex) of a file's content."""
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        while block := fh.read(chunk):
-            h.update(block)
-    return h.hexdigest()
-
-
-def _tmp_name(path: Path) -> Path:
-    return path.with_name(f".{path.name}{_TMP_MARK}{os.getpid()}-{uuid.uuid4().hex[:8]}")
-
-
-def atomic_write(path: str | os.PathLike, write: Callable[[Path], Any], *,
-                 durable: bool = True) -> Path:
-    """Write a file atomically: ``write(tmp)`` to a temporary name beside it, then rename.
-
-    The temporary file sits in the same folder (so :func:`os.replace` is an atomic
-    rename on POSIX) and is removed if ``write`` fails: whatever kills the process,
-    the final name holds the old complete file or the new complete one.
-    ``durable=True`` also fsyncs the file before the rename and the folder after it,
-    so the new file survives an operating-system crash or power cut as soon as this
-    returns; ``durable=False`` leaves that to the kernel's writeback (or to one
-    :func:`flush_filesystem` for many files).
-    """
-    path = Path(path)
-    tmp = _tmp_name(path)
-    try:
-        write(tmp)
-        if durable:
-            fd = os.open(tmp, os.O_RDONLY)
-            try:
-                os.fsync(fd)
-            finally:
-                os.close(fd)
-        else:
-            _start_writeback(tmp)
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            tmp.unlink()
-        raise
-    if durable:
-        _sync_folder(path.parent)
-    return path
-
-
-def _start_writeback(path: Path) -> None:
-    """Have the kernel start writing ``path`` to disk now, without waiting for it.
-
-    On Linux ``posix_fadvise(POSIX_FADV_DONTNEED)`` starts the writeback of the file's
-    dirty pages and lets their cache go once written. Without it the kernel keeps a run's
-    outputs in memory (they are far below its writeback threshold) and the end-of-run
-    :func:`flush_filesystem` writes them all while both cores wait (~0.5 s after 200
-    climates); started here, the disk writes them while the next tasks compute.
-    """
-    if not hasattr(os, "posix_fadvise"):  # macOS, Windows: the final flush does it all
-        return
-    with contextlib.suppress(OSError):
-        fd = os.open(path, os.O_RDONLY)
-        try:
-            os.posix_fadvise(fd, 0, 0, os.POSIX_FADV_DONTNEED)
-        finally:
-            os.close(fd)
-
-
-def _sync_folder(folder: Path) -> None:
-    """fsync a folder, which makes the renames done in it durable."""
-    with contextlib.suppress(OSError):
-        dfd = os.open(folder, os.O_RDONLY)
-        try:
-            os.fsync(dfd)
-        finally:
-            os.close(dfd)
-
-
-def flush_filesystem(folder: str | os.PathLike) -> None:
-    """Write out everything the kernel holds for the file system of ``folder``.
-
-    Linux's ``syncfs`` (only that file system), else :func:`os.sync` (all of them).
-    One call at the end of a batch run makes every output written with
-    ``atomic_write(..., durable=False)`` durable, for a fraction of the cost of one
-    fsync per file (measured: ~0.5 s after 200 climates, against ~20 % of the run).
-    """
-    import ctypes
-
-    try:
-        syncfs = ctypes.CDLL(None, use_errno=True).syncfs
-    except (OSError, AttributeError):  # not Linux (or no C library symbols)
-        if hasattr(os, "sync"):
-            os.sync()
-        return
-    with contextlib.suppress(OSError):
-        fd = os.open(folder, os.O_RDONLY)
-        try:
-            syncfs(fd)
-        finally:
-            os.close(fd)
-
+# --------------------------------------------------------------------------- outputs
 
 def _outputs(out_dir: Path, label: str) -> tuple[Path, Path]:
     d = out_dir / CLIMATES_DIR
@@ -604,7 +502,7 @@ def _is_current(prev: dict[str, Any] | None, sha: str, cfg_hash: str, out_dir: P
 def _remove_stale_temporaries(out_dir: Path) -> None:
     """Remove temporary files a killed run left behind (they never carry a final name)."""
     for folder in (out_dir, out_dir / CLIMATES_DIR):
-        for p in folder.glob(f".*{_TMP_MARK}*"):
+        for p in folder.glob(f".*{TMP_MARK}*"):
             with contextlib.suppress(OSError):
                 p.unlink()
     for p in (out_dir / RECORDS_DIR).glob("*.json"):  # records of tasks a killed run never read
