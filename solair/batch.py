@@ -12,7 +12,7 @@ vectorised call (:func:`solair.compare.compare`), and writes, inside the task:
 Both are written atomically: to a temporary name in the same folder, then renamed
 over the final name with :func:`os.replace`, so a killed run never leaves a
 truncated result under a final name. They are not fsynced one by one (that held
-the tasks in I/O wait: ~20 % of the throughput of two workers, measured); the
+the tasks in I/O wait: up to ~20 % of the throughput of two workers, measured); the
 task records their sizes, the client flushes the output folder's file system
 once at the end of the run (:func:`flush_filesystem`), and resume recomputes a
 climate whose files do not have the recorded sizes (what an operating-system
