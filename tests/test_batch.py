@@ -272,6 +272,7 @@ def test_sigkill_leaves_no_truncated_output(estate, cluster_run, tmp_path):
     result = run_cli([str(estate / "portfolio.toml"), "--workers", "0", "-o", str(out)])
     assert result.exit_code == 1
     assert not list((out / "climates").glob(".*.tmp-*"))
+    assert not list((out / ".records").glob("*.json"))  # records the killed client never read
     assert_same_results(out_ref, out)
 
 
