@@ -14,9 +14,7 @@ Sections (``id`` of each ``<section>``): ``caution``, ``site``, ``surfaces``,
 
 from __future__ import annotations
 
-import base64
 import datetime as _dt
-import html
 import os
 import re
 from collections.abc import Sequence
@@ -31,6 +29,12 @@ from solair.output import atomic_path
 from solair.plots import detect_result_type, draw, figure_png, load_result, shaping
 from solair.plots.shaping import design_values_table, monthly_means_table
 from solair.provenance import CAUTION as _CAUTION
+from solair.report_html import CSS as _CSS
+from solair.report_html import esc as _e
+from solair.report_html import figure as _img
+from solair.report_html import fmt as _fmt
+from solair.report_html import is_numeric as _numeric
+from solair.report_html import table as _table
 
 __all__ = ["CAUTION", "MODEL_SOURCES", "SECTIONS", "build_report", "write_report",
            "design_values_table", "monthly_means_table"]
@@ -171,63 +175,9 @@ _CAUTIONS = [
     "constructions and a fair estimate for lightweight claddings.",
 ]
 
-_CSS = """
-body{font-family:"DejaVu Sans",Arial,sans-serif;font-size:10.5pt;color:#222;max-width:60em;
-margin:1.5em auto;padding:0 1em;line-height:1.4}
-h1{font-size:1.6em;margin-bottom:.2em}h2{font-size:1.25em;border-bottom:2px solid #c33;
-padding-bottom:.15em;margin-top:1.6em}h3{font-size:1.05em;margin:1.2em 0 .4em}
-table{border-collapse:collapse;margin:.4em 0 1em;font-size:9.5pt}
-th,td{border:1px solid #bbb;padding:.2em .5em;text-align:right}
-th{background:#eee}td.t,th.t{text-align:left}
-.caution{background:#fff4e5;border-left:6px solid #e67e00;padding:.6em 1em;font-weight:bold}
-figure{margin:1em 0;page-break-inside:avoid}figure img{max-width:100%;height:auto}
-figcaption{font-size:9pt;color:#555}.meta{color:#555;font-size:9pt}
-ol.sources li{margin-bottom:.3em}
-@media print{body{max-width:none}h2{page-break-after:avoid}}
-"""
-
 _WEATHER_VARS = ("temp_air", "temp_dew", "relative_humidity", "pressure", "wind_speed",
                  "temp_sky")
 _PROVENANCE_SKIP = re.compile(r"^(_|history$|Conventions$)")
-
-
-def _e(value: object) -> str:
-    return html.escape(str(value), quote=True)
-
-
-def _fmt(value: object, digits: int = 1) -> str:
-    if isinstance(value, (float, np.floating)):
-        if not np.isfinite(value):
-            return "–"
-        text = f"{value:.{digits}f}"
-        return text[1:] if text.startswith("-") and float(text) == 0.0 else text
-    if isinstance(value, (int, np.integer)):
-        return f"{value:d}"
-    return str(value)
-
-
-def _table(frame: pd.DataFrame, *, digits: int = 1, index: bool = True,
-           caption: str = "") -> str:
-    """An escaped HTML table; text columns left-aligned."""
-    head = []
-    if index:
-        head.append(f'<th class="t">{_e(frame.index.name or "")}</th>')
-    head += [f'<th class="{"t" if not _numeric(frame[c]) else ""}">{_e(c)}</th>'
-             for c in frame.columns]
-    rows = []
-    for key, row in frame.iterrows():
-        cells = [f'<td class="t">{_e(key)}</td>'] if index else []
-        for c in frame.columns:
-            cls = "" if _numeric(frame[c]) else ' class="t"'
-            cells.append(f"<td{cls}>{_e(_fmt(row[c], digits))}</td>")
-        rows.append("<tr>" + "".join(cells) + "</tr>")
-    cap = f"<caption>{_e(caption)}</caption>" if caption else ""
-    return (f"<table>{cap}<thead><tr>{''.join(head)}</tr></thead><tbody>"
-            + "".join(rows) + "</tbody></table>")
-
-
-def _numeric(series: pd.Series) -> bool:
-    return bool(pd.api.types.is_numeric_dtype(series))
 
 
 def _unit(da: xr.DataArray) -> str:
@@ -458,12 +408,6 @@ def _tables_section(results: Sequence[tuple[str, xr.Dataset | pd.DataFrame]]) ->
             else:
                 out.append(_metrics_table(res, "Finish metrics"))
     return "".join(out)
-
-
-def _img(fig_bytes: bytes, caption: str) -> str:
-    data = base64.b64encode(fig_bytes).decode("ascii")
-    return (f'<figure><img alt="{_e(caption)}" src="data:image/png;base64,{data}">'
-            f"<figcaption>{_e(caption)}</figcaption></figure>")
 
 
 def _report_surfaces(ds: xr.Dataset) -> list[str]:
