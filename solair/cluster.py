@@ -207,20 +207,17 @@ class _Sealed:
                     fh.write(text)
         return out
 
-    def __reduce__(self):
-        return (_Sealed, (self.fn, self.arg, self.record_path))
-
 
 def _take_record(path: str) -> Any | None:
     """The result a task left at ``path`` (removed once read); None when there is none."""
     try:
         with open(path, encoding="utf-8") as fh:
-            out = json.loads(fh.read())
-    except (OSError, ValueError):
+            return json.loads(fh.read())
+    except (OSError, ValueError):  # not there, or cut short (the worker's disk filled up)
         return None
-    with contextlib.suppress(OSError):
-        os.unlink(path)
-    return out
+    finally:
+        with contextlib.suppress(OSError):
+            os.unlink(path)
 
 
 def run_on_dask(fn: Callable[[dict[str, Any]], dict[str, Any]], tasks: list[dict[str, Any]],

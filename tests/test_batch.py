@@ -458,17 +458,21 @@ def test_progress_bar_on_a_terminal():
     assert text.endswith("\n")
 
 
+def only_folder(text: str, keep_from: str = "[surfaces]") -> str:
+    """``portfolio_text`` with only its weather-folder climate: the other climates (and
+    whatever stands before ``keep_from``) are cut out."""
+    start = text.index('[[climates]]\npath = "{pvlib_data}')
+    return text[:start] + text[text.index(keep_from):]
+
+
 def test_serial_run_small(estate, tmp_path, pvlib_data_dir):
     """One good file and one corrupt one, serially in-process, through the library."""
     weather = tmp_path / "weather"
     weather.mkdir()
     shutil.copy(pvlib_data_dir / "723170TYA.CSV", weather / "greensboro.csv")
     corrupt_copy(pvlib_data_dir / "723170TYA.CSV", weather / "broken.csv")
-    text = portfolio_text(weather)
-    start = text.index('[[climates]]\npath = "{pvlib_data}')
-    text = text[:start] + text[text.index("[surfaces]"):]
     pf = tmp_path / "portfolio.toml"
-    pf.write_text(text, encoding="utf-8")
+    pf.write_text(only_folder(portfolio_text(weather)), encoding="utf-8")
     res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
     assert res.done == ["greensboro"] and [r["label"] for r in res.failed] == ["broken"]
     assert res.exit_code == 1
@@ -485,9 +489,7 @@ def test_hourly_subset_float32_and_kept_metrics(tmp_path, pvlib_data_dir):
     weather = tmp_path / "weather"
     weather.mkdir()
     shutil.copy(pvlib_data_dir / "703165TY.csv", weather / "sand_point.csv")
-    text = portfolio_text(weather)
-    start = text.index('[[climates]]\npath = "{pvlib_data}')
-    text = text[:start] + text[text.index("[models]"):]
+    text = only_folder(portfolio_text(weather), keep_from="[models]")
     text += ('\n[hourly]\nvariables = ["temp_surface", "temp_sol_air"]\ndtype = "float32"\n'
              '\n[metrics]\nkeep = ["temp_surface_max", "dew_hours"]\n')
     pf = tmp_path / "portfolio.toml"
@@ -516,11 +518,8 @@ def test_resume_recomputes_outputs_a_crash_left_short(tmp_path, pvlib_data_dir):
     weather.mkdir()
     for name in ("a.csv", "b.csv"):
         shutil.copy(pvlib_data_dir / "703165TY.csv", weather / name)
-    text = portfolio_text(weather)
-    start = text.index('[[climates]]\npath = "{pvlib_data}')
-    text = text[:start] + text[text.index("[surfaces]"):]
     pf = tmp_path / "portfolio.toml"
-    pf.write_text(text, encoding="utf-8")
+    pf.write_text(only_folder(portfolio_text(weather)), encoding="utf-8")
     res = run_portfolio(load_portfolio(pf).resolve(), workers=0)
     assert res.done == ["a", "b"], res.failed
     out = tmp_path / "results"
